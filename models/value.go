@@ -58,7 +58,16 @@ const maxValueDepth = 64
 
 // ParseValue parses YAML bytes into a Value. An empty document is a Null value.
 // Syntax errors are reported as Problems with the position the parser gives.
-func ParseValue(file string, data []byte) (Value, error) {
+func ParseValue(file string, data []byte) (v Value, err error) {
+	// The YAML library is not ours; a crash inside it on odd input must
+	// still come out as a problem, not take the program down.
+	defer func() {
+		if e := recover(); e != nil {
+			var ps Problems
+			ps.Add(Pos{File: file}, "", "YAML syntax: the file could not be read (%v)", e)
+			v, err = Value{}, ps.Err()
+		}
+	}()
 	f, err := parser.ParseBytes(data, 0)
 	if err != nil {
 		return Value{}, syntaxProblem(file, err)
@@ -72,7 +81,7 @@ func ParseValue(file string, data []byte) (Value, error) {
 		return Value{}, ps.Err()
 	}
 	var ps Problems
-	v := convert(file, f.Docs[0].Body, 0, &ps)
+	v = convert(file, f.Docs[0].Body, 0, &ps)
 	return v, ps.Err()
 }
 
@@ -157,6 +166,9 @@ func convert(file string, n ast.Node, depth int, ps *Problems) Value {
 		ps.Add(pos, "", "YAML merge keys are not supported; write the fields out")
 		return Value{Kind: Null, Pos: pos}
 	case ast.ScalarNode:
+		if n.GetToken() == nil {
+			return Value{Kind: Null, Pos: pos}
+		}
 		return Value{Kind: Scalar, Text: n.GetToken().Value, Pos: pos}
 	default:
 		ps.Add(pos, "", "unexpected YAML element %s", n.Type())
@@ -172,4 +184,22 @@ func convertField(file string, mv *ast.MappingValueNode, depth int, ps *Problems
 		}
 	}
 	return Field{Key: key, KeyPos: nodePos(file, mv.Key), Value: convert(file, mv.Value, depth+1, ps)}
+}
+
+// clone returns a deep copy of v.
+func (v Value) clone() Value {
+	c := v
+	if v.Items != nil {
+		c.Items = make([]Value, len(v.Items))
+		for i := range v.Items {
+			c.Items[i] = v.Items[i].clone()
+		}
+	}
+	if v.Fields != nil {
+		c.Fields = make([]Field, len(v.Fields))
+		for i, f := range v.Fields {
+			c.Fields[i] = Field{Key: f.Key, KeyPos: f.KeyPos, Value: f.Value.clone()}
+		}
+	}
+	return c
 }
