@@ -57,7 +57,8 @@ type Config[S any] struct {
 	Robot *models.Robot
 	Build Build[S]
 	// SetParam changes one robot parameter by path, such as
-	// "actuators.hip_left.backlash"; it must reject unknown paths.
+	// "actuators.hip_left.backlash"; it must reject unknown paths and leave
+	// the robot unchanged on error. Default: models.SetParam.
 	SetParam func(r *models.Robot, path string, v float64) error
 	// TraceSeconds is the length of the rolling trace (default 60 s) and
 	// TraceRate its sample rate (default 200 Hz; samples are taken at
@@ -128,6 +129,9 @@ type command struct {
 func New[S any](cfg Config[S]) (*Runner[S], error) {
 	if cfg.Robot == nil || cfg.Build == nil {
 		return nil, errors.New("live: a robot and a build function are needed")
+	}
+	if cfg.SetParam == nil {
+		cfg.SetParam = models.SetParam
 	}
 	if cfg.TraceSeconds <= 0 {
 		cfg.TraceSeconds = 60
@@ -475,10 +479,7 @@ func (r *Runner[S]) SetGain(path string, v float64) <-chan error {
 // kept, and the run restarts from the beginning (paused if it was paused).
 func (r *Runner[S]) SetParam(path string, v float64) <-chan error {
 	return r.send(func() error {
-		if r.cfg.SetParam == nil {
-			return errors.New("robot parameters cannot be changed here")
-		}
-		next := cloneRobot(r.robot)
+		next := r.robot.Clone()
 		if err := r.cfg.SetParam(next, path, v); err != nil {
 			return err
 		}
@@ -520,7 +521,7 @@ func (r *Runner[S]) SetRobot(robot *models.Robot) <-chan error {
 // goroutine, so it is for file saving, not for every frame.
 func (r *Runner[S]) Robot() *models.Robot {
 	var out *models.Robot
-	<-r.send(func() error { out = cloneRobot(r.robot); return nil })
+	<-r.send(func() error { out = r.robot.Clone(); return nil })
 	return out
 }
 
@@ -617,27 +618,4 @@ func (r *Runner[S]) ReferenceTrace(dst *Trace, from float64, signals []int) bool
 	}
 	r.ref.copyRange(from, signals, &dst.Time, &dst.Values)
 	return true
-}
-
-// cloneRobot copies the parts of a robot that parameter changes touch, so
-// that a refused change leaves the running robot as it was.
-func cloneRobot(r *models.Robot) *models.Robot {
-	c := *r
-	c.Links = append([]models.Link(nil), r.Links...)
-	c.Joints = append([]models.Joint(nil), r.Joints...)
-	c.Actuators = append([]models.Actuator(nil), r.Actuators...)
-	c.Sensors = append([]models.Sensor(nil), r.Sensors...)
-	c.Feet = append([]models.Foot(nil), r.Feet...)
-	for i := range c.Feet {
-		c.Feet[i].Pads = append([]models.Pad(nil), r.Feet[i].Pads...)
-	}
-	if r.Ballast != nil {
-		b := *r.Ballast
-		c.Ballast = &b
-	}
-	if r.Battery != nil {
-		b := *r.Battery
-		c.Battery = &b
-	}
-	return &c
 }
