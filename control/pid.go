@@ -56,8 +56,8 @@ type pidBlock struct {
 	integral, deriv, lastY float64
 	started                bool
 	// oldKp and oldB are the gains before a change waiting to be absorbed.
-	retune       bool
-	oldKp, oldB  float64
+	retune      bool
+	oldKp, oldB float64
 }
 
 func buildPID(b *BlockSpec, c *buildContext) block {

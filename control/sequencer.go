@@ -252,11 +252,11 @@ type sequencerBlock struct {
 	states  []seqState
 	events  []string
 
-	current  int
-	entered  float64
-	started  bool
-	from     []float64
-	latched  []bool
+	current int
+	entered float64
+	started bool
+	from    []float64
+	latched []bool
 }
 
 type seqState struct {
