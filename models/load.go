@@ -95,6 +95,9 @@ const (
 
 type section struct {
 	links, joints, actuators, sensors, pads, feet *nameRef
+	// brokenJoints is set when a joint names a link that does not exist,
+	// so that the tree check does not pile on with links it then misses.
+	brokenJoints bool
 }
 
 func readRobot(w *walker, top *object, r *Robot) {
@@ -116,7 +119,9 @@ func readRobot(w *walker, top *object, r *Robot) {
 	for i, v := range top.list("joints", false) {
 		r.Joints = append(r.Joints, readJoint(w, i, &v, &s))
 	}
-	checkTree(w, r, rootIdx, top)
+	if !s.brokenJoints {
+		checkTree(w, r, rootIdx)
+	}
 	for i := range r.Links {
 		l := &r.Links[i]
 		p := "links." + l.Name
@@ -232,8 +237,12 @@ func readJoint(w *walker, i int, v *Value, s *section) Joint {
 	o, name := w.element("joints", i, v, s.joints)
 	j := Joint{Name: name}
 	j.Kind = JointKind(o.choice("kind", true, "", string(Revolute), string(Prismatic)))
-	j.Parent, _ = o.ref("parent", true, s.links)
-	j.Child, _ = o.ref("child", true, s.links)
+	var pi, ci int
+	j.Parent, pi = o.ref("parent", true, s.links)
+	j.Child, ci = o.ref("child", true, s.links)
+	if pi < 0 || ci < 0 {
+		s.brokenJoints = true
+	}
 	if j.Parent != "" && j.Parent == j.Child {
 		w.add(w.pos[join(o.path, "child")], join(o.path, "child"), "a joint cannot join link %q to itself", j.Child)
 	}
@@ -281,7 +290,7 @@ func unit(v Vec2) (Vec2, bool) {
 
 // checkTree reports joints that give a link two parents, links not joined
 // to the root, and loops.
-func checkTree(w *walker, r *Robot, rootIdx int, top *object) {
+func checkTree(w *walker, r *Robot, rootIdx int) {
 	if rootIdx < 0 {
 		return
 	}
@@ -337,12 +346,8 @@ func checkTree(w *walker, r *Robot, rootIdx int, top *object) {
 func readBallast(w *walker, v *Value, s *section) *Ballast {
 	o := w.object(v, "ballast")
 	b := &Ballast{Name: "ballast", Axis: Vec2{1, 0}, Size: 0.05}
-	if name, nv := o.text("name", false); nv != nil {
-		if validName(name) {
-			b.Name = name
-		} else {
-			w.add(nv.Pos, "ballast.name", "name %q may hold only letters, digits, _ and -", name)
-		}
+	if name, nv := o.text("name", false); nv != nil && checkName(w, name, nv.Pos, "ballast.name") {
+		b.Name = name
 	}
 	b.Link, _ = o.ref("link", true, s.links)
 	w.positive(o.num("mass", true, &b.Mass, Mass))
@@ -401,12 +406,14 @@ func readPad(w *walker, i int, v *Value, section string, names *nameRef) Pad {
 
 // actuatorUnits gives the kinds of a linear or rotary actuator's position,
 // speed, force and mount stiffness.
-func actuatorUnits(linear bool) (pos, speed, force, stiff Kind) {
+func actuatorUnits(linear bool) (pos, speed, force, stiff []Kind) {
 	if linear {
-		return Length, Speed, Force, LinearStiffness
+		return anyOf(Length), anyOf(Speed), anyOf(Force), anyOf(LinearStiffness)
 	}
-	return Angle, AngularSpeed, Torque, AngularStiffness
+	return anyOf(Angle), anyOf(AngularSpeed), anyOf(Torque), anyOf(AngularStiffness)
 }
+
+func anyOf(k ...Kind) []Kind { return k }
 
 func readActuator(w *walker, i int, v *Value, s *section, r *Robot) Actuator {
 	o, name := w.element("actuators", i, v, s.actuators)
@@ -475,21 +482,27 @@ func readActuator(w *walker, i int, v *Value, s *section, r *Robot) Actuator {
 	}
 
 	posKind, speedKind, forceKind, stiffKind := actuatorUnits(a.Linear)
+	if len(targets) != 1 || (a.Joint != "" && joint == nil) {
+		// Without a clear target either unit kind may be meant; accept both
+		// rather than add doubtful problems to the real one.
+		posKind, speedKind, forceKind, stiffKind = anyOf(Length, Angle), anyOf(Speed, AngularSpeed),
+			anyOf(Force, Torque), anyOf(LinearStiffness, AngularStiffness)
+	}
 	w.check(o.num("nominal_voltage", false, &a.NominalVoltage, Voltage), a.NominalVoltage > 0, "must be greater than zero")
-	w.positive(o.num("no_load_speed", true, &a.NoLoadSpeed, speedKind))
-	w.positive(o.num("stall_force", true, &a.StallForce, forceKind))
+	w.positive(o.num("no_load_speed", true, &a.NoLoadSpeed, speedKind...))
+	w.positive(o.num("stall_force", true, &a.StallForce, forceKind...))
 	dq := o.num("deadband", false, &a.Deadband, Dimensionless)
 	w.check(dq, a.Deadband >= 0 && a.Deadband < 1, "must be at least 0 and below 1 (a fraction of full PWM)")
 	w.nonNegative(o.num("time_constant", false, &a.TimeConstant, Duration))
-	w.nonNegative(o.num("backlash", false, &a.Backlash, posKind))
-	w.nonNegative(o.num("mount_stiffness", false, &a.MountStiffness, stiffKind))
+	w.nonNegative(o.num("backlash", false, &a.Backlash, posKind...))
+	w.nonNegative(o.num("mount_stiffness", false, &a.MountStiffness, stiffKind...))
 	w.nonNegative(o.num("no_load_current", false, &a.NoLoadCurrent, Current))
 	sc := o.num("stall_current", false, &a.StallCurrent, Current)
 	if w.nonNegative(sc) {
 		w.check(sc, a.StallCurrent == 0 || a.StallCurrent >= a.NoLoadCurrent, "the stall current must not be below the no-load current")
 	}
 
-	lo, hi, present := o.pair("stroke", false, posKind)
+	lo, hi, present := o.pair("stroke", false, posKind...)
 	switch {
 	case lo.ok && hi.ok:
 		a.StrokeMin, a.StrokeMax = lo.v, hi.v
@@ -543,14 +556,14 @@ func readSensor(w *walker, i int, v *Value, s *section, r *Robot) Sensor {
 			w.add(o.pos, o.path, "a joint_position sensor reads exactly one of joint or actuator")
 		}
 		var lo, hi float64
-		var haveRange bool
+		var haveRange, resolved bool
 		if _, ji := o.ref("joint", false, s.joints); ji >= 0 && ji < len(r.Joints) {
 			j := r.Joints[ji]
 			sn.Joint = j.Name
 			if j.Kind == Prismatic {
 				noiseKind = Length
 			}
-			lo, hi, haveRange = j.Lower, j.Upper, j.HasLimits
+			lo, hi, haveRange, resolved = j.Lower, j.Upper, j.HasLimits, true
 		}
 		if _, ai := o.ref("actuator", false, s.actuators); ai >= 0 && ai < len(r.Actuators) {
 			a := r.Actuators[ai]
@@ -560,7 +573,7 @@ func readSensor(w *walker, i int, v *Value, s *section, r *Robot) Sensor {
 			} else {
 				noiseKind = Angle
 			}
-			lo, hi, haveRange = a.StrokeMin, a.StrokeMax, a.StrokeMin < a.StrokeMax
+			lo, hi, haveRange, resolved = a.StrokeMin, a.StrokeMax, a.StrokeMin < a.StrokeMax, true
 		}
 		bq := quantity{}
 		if bv := o.get("bits"); bv != nil {
@@ -577,7 +590,7 @@ func readSensor(w *walker, i int, v *Value, s *section, r *Robot) Sensor {
 		case present:
 		case haveRange:
 			sn.Min, sn.Max = lo, hi
-		case sn.Bits > 0:
+		case sn.Bits > 0 && resolved:
 			w.add(o.pos, join(o.path, "range"), "missing required field range (the readings are quantized over it)")
 		}
 	case FootLoad:
@@ -661,7 +674,8 @@ func readBattery(w *walker, v *Value) *Battery {
 func readGround(w *walker, v *Value, g *Ground) {
 	o := w.object(v, "ground")
 	w.between(o.num("friction", false, &g.Friction, Dimensionless), 0, maxFriction, "")
-	w.between(o.num("tilt", false, &g.Tilt, Angle), -math.Pi/4, math.Pi/4, "rad (45 deg either way)")
+	tq := o.num("tilt", false, &g.Tilt, Angle)
+	w.check(tq, math.Abs(g.Tilt) <= math.Pi/4, "must be within 45 deg either way")
 	o.num("step_x", false, &g.StepX, Length)
 	w.between(o.num("step_height", false, &g.StepHeight, Length), -1, 1, "m")
 	o.done()

@@ -39,13 +39,18 @@ type object struct {
 
 func (w *walker) object(v *Value, path string) *object {
 	o := &object{w: w, path: path, pos: v.Pos}
+	if v.Kind == Map && len(v.Fields) > 0 {
+		// The mapping's own position is its first colon; its first key is
+		// where a reader looks.
+		o.pos = v.Fields[0].KeyPos
+	}
 	if v.Kind != Map {
 		w.add(v.Pos, path, "should be a mapping of fields, not %s", v.Kind)
 		return o
 	}
 	o.v = v
 	if path != "" {
-		w.pos[path] = v.Pos
+		w.pos[path] = o.pos
 	}
 	return o
 }
@@ -361,17 +366,28 @@ func (w *walker) element(section string, i int, v *Value, names *nameRef) (*obje
 	if nv == nil {
 		return o, ""
 	}
-	if !validName(name) {
-		w.add(nv.Pos, join(o.path, "name"), "name %q may hold only letters, digits, _ and -", name)
+	if !checkName(w, name, nv.Pos, join(o.path, "name")) {
 		return o, ""
 	}
-	if !names.define(w, name, i, v.Pos, join(o.path, "name")) {
+	if !names.define(w, name, i, o.pos, join(o.path, "name")) {
 		return o, ""
 	}
 	o.path = section + "." + name
-	w.pos[o.path] = v.Pos
+	w.pos[o.path] = o.pos
 	w.pos[join(o.path, "name")] = nv.Pos
 	return o, name
+}
+
+func checkName(w *walker, name string, pos Pos, path string) bool {
+	switch {
+	case name == "":
+		w.add(pos, path, "the name is empty")
+	case !validName(name):
+		w.add(pos, path, "name %q may hold only letters, digits, _ and - (at most 64)", name)
+	default:
+		return true
+	}
+	return false
 }
 
 func validName(s string) bool {

@@ -148,12 +148,19 @@ func ParseQuantity(text string, want ...Kind) (float64, Kind, error) {
 	if s == "" {
 		return 0, Kind{}, fmt.Errorf("empty value")
 	}
+	word := strings.ToLower(strings.TrimLeft(s, "+-."))
+	if strings.HasPrefix(word, "nan") || strings.HasPrefix(word, "inf") {
+		return 0, Kind{}, fmt.Errorf("%q is not a finite number", text)
+	}
 	numEnd := numberPrefix(s)
 	if numEnd == 0 {
 		return 0, Kind{}, fmt.Errorf("%q is not a number", text)
 	}
 	num, err := strconv.ParseFloat(s[:numEnd], 64)
 	if err != nil {
+		if math.IsInf(num, 0) {
+			return 0, Kind{}, fmt.Errorf("%q is too large", text)
+		}
 		return 0, Kind{}, fmt.Errorf("%q is not a number", text)
 	}
 	if math.IsNaN(num) || math.IsInf(num, 0) {
@@ -188,7 +195,14 @@ func ParseQuantity(text string, want ...Kind) (float64, Kind, error) {
 	for i, k := range want {
 		names[i] = k.Name
 	}
-	return 0, Kind{}, fmt.Errorf("%q is a %s, but a %s is wanted", text, KindOf(dim).Name, strings.Join(names, " or "))
+	return 0, Kind{}, fmt.Errorf("%q is %s, but %s is wanted", text, withArticle(KindOf(dim).Name), withArticle(strings.Join(names, " or ")))
+}
+
+func withArticle(noun string) string {
+	if noun != "" && strings.ContainsRune("aeiou", rune(noun[0])) {
+		return "an " + noun
+	}
+	return "a " + noun
 }
 
 // numberPrefix returns the length of the leading decimal number in s.
@@ -254,6 +268,9 @@ func parseUnit(text string) (float64, Dim, error) {
 		}
 		u, ok := units[name]
 		if !ok {
+			if name == strings.TrimSpace(text) {
+				return 0, Dim{}, fmt.Errorf("unknown unit %q", name)
+			}
 			return 0, Dim{}, fmt.Errorf("unknown unit %q in %q", name, text)
 		}
 		p := power * sign
