@@ -253,13 +253,13 @@ func parseSum(r *reader) {
 	signs := r.text("signs", "++", false)
 	for i, c := range signs {
 		if c != '+' && c != '-' {
-			r.add(r.v.Pos, "signs", "signs %q may hold only '+' and '-'", signs)
+			r.add(r.pos, "signs", "signs %q may hold only '+' and '-'", signs)
 			return
 		}
 		r.inputs(fmt.Sprintf("in%d", i+1))
 	}
 	if len(r.b.Inputs) == 0 {
-		r.add(r.v.Pos, "signs", "signs is empty; give one '+' or '-' per input")
+		r.add(r.pos, "signs", "signs is empty; give one '+' or '-' per input")
 	}
 	r.outputs("out")
 }
@@ -296,7 +296,7 @@ func parseSplit(r *reader) {
 	r.inputs("in")
 	f := r.field("outputs")
 	if f == nil {
-		r.add(r.v.Pos, "outputs", "missing: a split block needs outputs, a mapping of output name to gain")
+		r.add(r.pos, "outputs", "missing: a split block needs outputs, a mapping of output name to gain")
 		return
 	}
 	if f.Value.Kind != models.Map {
@@ -542,7 +542,7 @@ func parseSelect(r *reader) {
 	r.number("count", num{q: qNumber, required: true, fixed: true, min: 1, max: 64})
 	n := int(r.b.value("count"))
 	if float64(n) != r.b.value("count") {
-		r.add(r.v.Pos, "count", "count is a whole number of inputs")
+		r.add(r.pos, "count", "count is a whole number of inputs")
 		n = 0
 	}
 	r.number("index", num{q: qNumber, def: 1, min: 1, max: math.Max(1, float64(n))})

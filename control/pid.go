@@ -10,7 +10,7 @@ func parsePID(r *reader) {
 	_, hasTf := r.v.Get("tf")
 	_, hasN := r.v.Get("n")
 	if hasTf && hasN {
-		r.add(r.v.Pos, "tf", "give the derivative filter as tf or as n, not both")
+		r.add(r.pos, "tf", "give the derivative filter as tf or as n, not both")
 		r.field("tf")
 	}
 	if hasN {

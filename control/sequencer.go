@@ -55,7 +55,7 @@ func parseSequencer(r *reader) {
 	for _, e := range seq.Events {
 		for _, s := range seq.Signals {
 			if e == s {
-				r.add(r.v.Pos, "events", "%q is both a signal and an event", e)
+				r.add(r.pos, "events", "%q is both a signal and an event", e)
 			}
 		}
 	}
@@ -63,7 +63,7 @@ func parseSequencer(r *reader) {
 	r.optionalInputs(seq.Events...)
 	f := r.field("states")
 	if f == nil {
-		r.add(r.v.Pos, "states", "missing: a sequencer needs a list of states")
+		r.add(r.pos, "states", "missing: a sequencer needs a list of states")
 		return
 	}
 	if f.Value.Kind != models.List || len(f.Value.Items) == 0 {
@@ -102,7 +102,7 @@ func contains(list []string, s string) bool {
 }
 
 func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bool) {
-	st := State{Pos: v.Pos}
+	st := State{Pos: mapPos(v)}
 	where := fmt.Sprintf("states[%d]", index)
 	if v.Kind != models.Map {
 		r.add(v.Pos, where, "a state is a mapping with name, set, ramp and next")
@@ -110,12 +110,12 @@ func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bo
 	}
 	nf, ok := v.Get("name")
 	if !ok || nf.Value.Kind != models.Scalar || !validName(nf.Value.Text) {
-		r.add(v.Pos, where+".name", "a state needs a name that is %s", nameRule)
+		r.add(st.Pos, where+".name", "a state needs a name that is %s", nameRule)
 		return st, false
 	}
 	st.Name = nf.Value.Text
 	where = "states." + st.Name
-	ramp := Param{Name: st.Name + ".ramp", Unit: "s", Tunable: true, Max: inf, Pos: v.Pos}
+	ramp := Param{Name: st.Name + ".ramp", Unit: "s", Tunable: true, Max: inf, Pos: st.Pos}
 	for i := range v.Fields {
 		f := &v.Fields[i]
 		switch f.Key {
@@ -165,7 +165,7 @@ func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bo
 }
 
 func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int) (Transition, bool) {
-	t := Transition{Pos: v.Pos}
+	t := Transition{Pos: mapPos(v)}
 	where := fmt.Sprintf("states.%s.next[%d]", st.Name, k)
 	if v.Kind != models.Map {
 		r.add(v.Pos, where, "a transition is a mapping such as {after: 1 s, to: NAME}")
@@ -216,13 +216,13 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 	}
 	switch {
 	case t.To == "":
-		r.add(v.Pos, where+".to", "missing: the state to go to")
+		r.add(t.Pos, where+".to", "missing: the state to go to")
 		return t, false
 	case conditions != 1:
-		r.add(v.Pos, where, "a transition has exactly one of on, after and when")
+		r.add(t.Pos, where, "a transition has exactly one of on, after and when")
 		return t, false
 	case (t.When != "") != (threshold != nil):
-		r.add(v.Pos, where, "when goes with above or below, and they only with when")
+		r.add(t.Pos, where, "when goes with above or below, and they only with when")
 		return t, false
 	}
 	if threshold != nil {

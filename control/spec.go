@@ -127,7 +127,7 @@ func parseSpec(v *models.Value, ps *models.Problems) *Spec {
 		ps.Add(v.Pos, sectionPath, "a controller is a mapping with rate and blocks, not %s", v.Kind)
 		return nil
 	}
-	spec := &Spec{Pos: v.Pos}
+	spec := &Spec{Pos: mapPos(v)}
 	var blocks *models.Value
 	for i := range v.Fields {
 		f := &v.Fields[i]
@@ -143,10 +143,10 @@ func parseSpec(v *models.Value, ps *models.Problems) *Spec {
 		}
 	}
 	if _, ok := v.Get("rate"); !ok {
-		ps.Add(v.Pos, sectionPath+".rate", "missing: the rate the controller ticks at, e.g. 200 Hz")
+		ps.Add(spec.Pos, sectionPath+".rate", "missing: the rate the controller ticks at, e.g. 200 Hz")
 	}
 	if blocks == nil {
-		ps.Add(v.Pos, sectionPath+".blocks", "missing: the list of blocks")
+		ps.Add(spec.Pos, sectionPath+".blocks", "missing: the list of blocks")
 		return spec
 	}
 	if blocks.Kind != models.List {
@@ -218,11 +218,11 @@ func parseBlock(v *models.Value, index int, ps *models.Problems) *BlockSpec {
 		ps.Add(v.Pos, itemPath, "a block is a mapping with name, kind and its parameters, not %s", v.Kind)
 		return nil
 	}
-	b := &BlockSpec{Pos: v.Pos, Options: map[string]string{}}
+	b := &BlockSpec{Pos: mapPos(v), Options: map[string]string{}}
 	nameField, ok := v.Get("name")
 	switch {
 	case !ok:
-		ps.Add(v.Pos, itemPath+".name", "missing: every block needs a name")
+		ps.Add(b.Pos, itemPath+".name", "missing: every block needs a name")
 		return nil
 	case nameField.Value.Kind != models.Scalar || !validName(nameField.Value.Text):
 		ps.Add(nameField.Value.Pos, itemPath+".name", "block name %q is not %s", nameField.Value.Text, nameRule)
@@ -232,7 +232,7 @@ func parseBlock(v *models.Value, index int, ps *models.Problems) *BlockSpec {
 	path := blockPath(b.Name)
 	kindField, ok := v.Get("kind")
 	if !ok {
-		ps.Add(v.Pos, path+".kind", "missing: the kind of block (%s)", strings.Join(KindNames(), ", "))
+		ps.Add(b.Pos, path+".kind", "missing: the kind of block (%s)", strings.Join(KindNames(), ", "))
 		return nil
 	}
 	b.Kind = kindField.Value.Text
@@ -241,7 +241,7 @@ func parseBlock(v *models.Value, index int, ps *models.Problems) *BlockSpec {
 		ps.Add(kindField.Value.Pos, path+".kind", "unknown block kind %q (known: %s)", kindField.Value.Text, strings.Join(KindNames(), ", "))
 		return nil
 	}
-	r := &reader{v: v, path: path, ps: ps, b: b, used: map[string]bool{"name": true, "kind": true, "input": true}}
+	r := &reader{v: v, pos: b.Pos, path: path, ps: ps, b: b, used: map[string]bool{"name": true, "kind": true, "input": true}}
 	def.parse(r)
 	for i := range v.Fields {
 		f := &v.Fields[i]
@@ -271,7 +271,8 @@ type reader struct {
 	ps    *models.Problems
 	b     *BlockSpec
 	used  map[string]bool
-	names []string // parameters the kind knows, for messages
+	names []string   // parameters the kind knows, for messages
+	pos   models.Pos // where the block starts
 }
 
 func (r *reader) known() []string {
@@ -348,14 +349,14 @@ func parseNumber(val *models.Value, q quantity) (float64, string, error) {
 // number reads a numeric parameter into the block's Params.
 func (r *reader) number(key string, n num) {
 	f := r.field(key)
-	p := Param{Name: key, Value: n.def, Tunable: !n.fixed, Min: n.min, Max: n.max, Pos: r.v.Pos}
+	p := Param{Name: key, Value: n.def, Tunable: !n.fixed, Min: n.min, Max: n.max, Pos: r.pos}
 	p.Unit = n.q.unit
 	if p.Unit == "" {
 		p.Unit = n.q.kinds[0].Unit
 	}
 	if f == nil {
 		if n.required {
-			r.add(r.v.Pos, key, "missing: a %s block needs %s", r.b.Kind, key)
+			r.add(r.pos, key, "missing: a %s block needs %s", r.b.Kind, key)
 		}
 		r.b.Params = append(r.b.Params, p)
 		return
@@ -392,11 +393,11 @@ func (r *reader) limits(key string, q quantity, required bool) bool {
 	f := r.field(key)
 	if f == nil {
 		if required {
-			r.add(r.v.Pos, key, "missing: a %s block needs %s [low, high]", r.b.Kind, key)
+			r.add(r.pos, key, "missing: a %s block needs %s [low, high]", r.b.Kind, key)
 		}
 		return false
 	}
-	pmin := Param{Name: "min", Unit: q.kinds[0].Unit, Tunable: true, Min: -inf, Max: inf, Pos: r.v.Pos}
+	pmin := Param{Name: "min", Unit: q.kinds[0].Unit, Tunable: true, Min: -inf, Max: inf, Pos: r.pos}
 	pmax := pmin
 	pmax.Name = "max"
 	{
@@ -428,7 +429,7 @@ func (r *reader) text(key, def string, required bool, choices ...string) string 
 	f := r.field(key)
 	if f == nil {
 		if required {
-			r.add(r.v.Pos, key, "missing: a %s block needs %s", r.b.Kind, key)
+			r.add(r.pos, key, "missing: a %s block needs %s", r.b.Kind, key)
 		}
 		if def != "" {
 			r.b.Options[key] = def
@@ -459,7 +460,7 @@ func (r *reader) nameList(key string, required bool) ([]string, []models.Pos) {
 	f := r.field(key)
 	if f == nil {
 		if required {
-			r.add(r.v.Pos, key, "missing: a %s block needs %s", r.b.Kind, key)
+			r.add(r.pos, key, "missing: a %s block needs %s", r.b.Kind, key)
 		}
 		return nil, nil
 	}
@@ -487,13 +488,13 @@ func (r *reader) nameList(key string, required bool) ([]string, []models.Pos) {
 
 func (r *reader) inputs(names ...string) {
 	for _, n := range names {
-		r.b.Inputs = append(r.b.Inputs, Port{Name: n, Pos: r.v.Pos})
+		r.b.Inputs = append(r.b.Inputs, Port{Name: n, Pos: r.pos})
 	}
 }
 
 func (r *reader) optionalInputs(names ...string) {
 	for _, n := range names {
-		r.b.Inputs = append(r.b.Inputs, Port{Name: n, Optional: true, Pos: r.v.Pos})
+		r.b.Inputs = append(r.b.Inputs, Port{Name: n, Optional: true, Pos: r.pos})
 	}
 }
 
@@ -564,4 +565,18 @@ func portList(b *BlockSpec) string {
 		names[i] = p.Name
 	}
 	return strings.Join(names, ", ")
+}
+
+// mapPos is where a mapping starts as a person sees it: its opening brace
+// for a flow mapping, its first key for a block mapping (the parser places
+// a block mapping at its first colon).
+func mapPos(v *models.Value) models.Pos {
+	if v.Kind != models.Map || len(v.Fields) == 0 {
+		return v.Pos
+	}
+	k := v.Fields[0].KeyPos
+	if k.Line < v.Pos.Line || (k.Line == v.Pos.Line && k.Col < v.Pos.Col) {
+		return k
+	}
+	return v.Pos
 }
