@@ -51,3 +51,12 @@ func TestBuiltinsBuildForTheirRobots(t *testing.T) {
 		g.Tick(0, readings, commands)
 	}
 }
+
+// frontalNames gives the built-in frontal robot's channels and actuators.
+func frontalNames() ([]string, []string) {
+	robot, err := models.Load("builtin:frontal")
+	if err != nil {
+		panic(err)
+	}
+	return channelsOf(robot), actuatorsOf(robot)
+}

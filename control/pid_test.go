@@ -63,7 +63,7 @@ func TestPICancellingThePlantPoleGivesFirstOrderLoop(t *testing.T) {
 	}
 }
 
-// overshoot runs PD control of a double integrator y'' = u to a setpoint
+// overshoot runs PD control of a double integrator y” = u to a setpoint
 // step and returns the relative overshoot.
 func overshoot(t *testing.T, kp, kd float64) float64 {
 	const rate, r = 4000.0, 0.004
