@@ -10,13 +10,16 @@
 package live
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"sync"
 	"time"
 
 	"teeter/models"
+	"teeter/sim"
 )
 
 // Plant is one simulated robot with its controller, advanced one controller
@@ -25,7 +28,7 @@ import (
 type Plant[S any] interface {
 	Step() error
 	Time() float64
-	Shove(Shove) error
+	Shove(sim.Shove) error
 	// Snapshot fills dst with the current state for drawing.
 	Snapshot(dst *S)
 	// Fall reports whether the robot has fallen, why and when.
@@ -40,13 +43,6 @@ type Plant[S any] interface {
 type Tuner interface {
 	Get(path string) (float64, error)
 	Set(path string, v float64) error
-}
-
-// Shove is an impulse given to one link at a point.
-type Shove struct {
-	Link    string
-	Point   models.Vec2 // world coordinates, m
-	Impulse models.Vec2 // N*s
 }
 
 // Build makes a fresh plant and its tuner from a robot description.
@@ -107,17 +103,19 @@ type Runner[S any] struct {
 	reader   *S // owned by the reader between calls to Latest
 
 	// Owned by the goroutine.
-	cfg      Config[S]
-	robot    *models.Robot
-	plant    Plant[S]
-	tuner    Tuner
-	gains    map[string]float64
-	gainList []string // keys of gains in the order first set, for replay
-	back     *S
-	sample   []float64
-	lastRec  float64
-	running  bool
-	speed    float64
+	cfg       Config[S]
+	robot     *models.Robot
+	plant     Plant[S]
+	tuner     Tuner
+	gains     map[string]float64
+	gainList  []string // keys of gains in the order first set, for replay
+	back      *S
+	sample    []float64
+	lastRec   float64
+	running   bool
+	speed     float64
+	schedule  []sim.Shove // sorted by At
+	nextShove int
 }
 
 type command struct {
@@ -186,6 +184,7 @@ func (r *Runner[S]) rebuild() error {
 	}
 	names := plant.SignalNames()
 	r.plant, r.tuner = plant, tuner
+	r.nextShove = 0
 	r.sample = make([]float64, len(names))
 	r.lastRec = math.Inf(-1)
 	capacity := int(r.cfg.TraceSeconds*r.cfg.TraceRate) + 1
@@ -253,6 +252,14 @@ func (r *Runner[S]) publish() {
 
 // tick advances one controller tick and reports whether the run may go on.
 func (r *Runner[S]) tick() bool {
+	for r.nextShove < len(r.schedule) && r.schedule[r.nextShove].At <= r.plant.Time()+1e-12 {
+		if err := r.plant.Shove(r.schedule[r.nextShove]); err != nil {
+			r.mu.Lock()
+			r.status.Notice = fmt.Sprintf("scheduled shove at %.3g s: %v", r.schedule[r.nextShove].At, err)
+			r.mu.Unlock()
+		}
+		r.nextShove++
+	}
 	if err := r.plant.Step(); err != nil {
 		r.running = false
 		r.mu.Lock()
@@ -444,14 +451,30 @@ func (r *Runner[S]) SetSpeed(speed float64) <-chan error {
 	})
 }
 
-// Shove gives the robot an impulse at the next tick.
-func (r *Runner[S]) Shove(s Shove) <-chan error {
+// Shove gives the robot an impulse at the next tick; its At is ignored.
+func (r *Runner[S]) Shove(s sim.Shove) <-chan error {
 	return r.send(func() error {
 		if err := r.plant.Shove(s); err != nil {
 			return err
 		}
 		if !r.running {
 			r.publish()
+		}
+		return nil
+	})
+}
+
+// Schedule replaces the list of shoves given at set times of every run
+// from the next reset on, and of this run for those not yet due.
+func (r *Runner[S]) Schedule(shoves []sim.Shove) <-chan error {
+	list := slices.Clone(shoves)
+	slices.SortStableFunc(list, func(a, b sim.Shove) int { return cmp.Compare(a.At, b.At) })
+	return r.send(func() error {
+		r.schedule = list
+		now := r.plant.Time()
+		r.nextShove = 0
+		for r.nextShove < len(list) && list[r.nextShove].At < now {
+			r.nextShove++
 		}
 		return nil
 	})

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"teeter/models"
+	"teeter/sim"
 )
 
 // fakePlant is a point mass on a spring, x” = -kp*x, stepped with
@@ -43,7 +44,7 @@ func (p *fakePlant) Step() error {
 	return nil
 }
 func (p *fakePlant) Time() float64 { return p.t }
-func (p *fakePlant) Shove(s Shove) error {
+func (p *fakePlant) Shove(s sim.Shove) error {
 	if s.Link != "mass" {
 		return fmt.Errorf("no link %q", s.Link)
 	}
@@ -177,7 +178,7 @@ func TestSetParamRebuildsKeepsGainsAndSaysSo(t *testing.T) {
 func TestFallIsReportedAndStopsTheRun(t *testing.T) {
 	run, _ := newFake(t)
 	must(t, run.SetSpeed(0))
-	must(t, run.Shove(Shove{Link: "mass", Impulse: models.Vec2{X: 50}}))
+	must(t, run.Shove(sim.Shove{Link: "mass", Impulse: models.Vec2{X: 50}}))
 	must(t, run.Run())
 	for !run.Status().Fallen {
 		runtime.Gosched()
@@ -197,14 +198,14 @@ func TestFallIsReportedAndStopsTheRun(t *testing.T) {
 	if st := run.Status(); st.Fallen || st.Time != 0 {
 		t.Fatalf("after reset: %+v", st)
 	}
-	if err := <-run.Shove(Shove{Link: "wing"}); err == nil {
+	if err := <-run.Shove(sim.Shove{Link: "wing"}); err == nil {
 		t.Fatal("a shove on a missing link was accepted")
 	}
 }
 
 func TestBlowUpIsReportedNotPanicked(t *testing.T) {
 	run, _ := newFake(t)
-	must(t, run.Shove(Shove{Link: "mass", Impulse: models.Vec2{X: math.NaN()}}))
+	must(t, run.Shove(sim.Shove{Link: "mass", Impulse: models.Vec2{X: math.NaN()}}))
 	if err := <-run.StepOnce(); err == nil {
 		t.Fatal("a blow-up was not reported by the step")
 	}
@@ -320,7 +321,7 @@ func TestConcurrentUse(t *testing.T) {
 			case 0:
 				<-run.SetGain("spring.kp", float64(1+i%5))
 			case 1:
-				<-run.Shove(Shove{Link: "mass", Impulse: models.Vec2{X: 0.01}})
+				<-run.Shove(sim.Shove{Link: "mass", Impulse: models.Vec2{X: 0.01}})
 			case 2:
 				run.PinReference()
 			case 3:
@@ -344,4 +345,28 @@ func TestConcurrentUse(t *testing.T) {
 	}
 	close(stop)
 	wg.Wait()
+}
+
+func TestScheduledShovesComeAtTheirTime(t *testing.T) {
+	run, built := newFake(t)
+	must(t, run.Schedule([]sim.Shove{{At: 0.05, Link: "mass", Impulse: models.Vec2{X: 1}}}))
+	for range 5 {
+		must(t, run.StepOnce())
+	}
+	p := (*built)[0]
+	if p.v < -0.1 {
+		t.Fatalf("shove came early: v = %g", p.v)
+	}
+	must(t, run.StepOnce())
+	// The 1 N*s shove on the unit mass before the sixth tick adds 1 m/s.
+	if p.v < 0.9 {
+		t.Fatalf("shove at 0.05 s not given by the sixth tick: v = %g", p.v)
+	}
+	must(t, run.Reset())
+	for range 6 {
+		must(t, run.StepOnce())
+	}
+	if q := (*built)[1]; q.v < 0.9 {
+		t.Fatalf("schedule not replayed after reset: v = %g", q.v)
+	}
 }
