@@ -24,23 +24,20 @@ const (
 //
 // A lead screw is not backdrivable: the screw position is a state
 // integrated here from the PWM command, and the output is tied to it by a
-// cp limit constraint of unlimited force whose Min and Max are moved every
-// step to screw -/+ backlash/2. Inside that band the output is free; at an
-// edge it is driven rigidly. The load is read back from the constraint's
-// impulse.
+// limit constraint of unlimited force (screwLimit) whose Min and Max are
+// moved every step to screw -/+ backlash/2. Inside that band the output is
+// free; at an edge it is driven rigidly. The load is read back from the
+// constraint's impulse.
 type actuator struct {
 	name  string
 	m     *models.Actuator
 	drive driveKind
-	// Bodies and body-local anchors of the two sides; for driveSlide and
-	// driveBallast anchorA is set back along the axis by slideOffset.
+	// Bodies and body-local anchors of the two sides.
 	a, b             *cp.Body
 	anchorA, anchorB cp.Vector
-	offset           float64 // added to the coordinate to give the slide distance
 	jnt              *joint
 	bal              *ballast
-	slide            *cp.SlideJoint
-	rotary           *cp.RotaryLimitJoint
+	limit            *screwLimit
 
 	lag      float64 // 1 - exp(-dt/tau): fraction of the speed error closed per step
 	backlash float64
@@ -81,20 +78,20 @@ func (p *Plant) buildActuator(m *models.Actuator, a *actuator) error {
 		if j.kind == models.Revolute {
 			a.drive = driveRotary
 		} else {
-			a.drive, a.offset = driveSlide, slideOffset
-			a.anchorA, a.anchorB = j.pAnchor.Sub(j.axis.Mult(slideOffset)), j.cAnchor
+			a.drive = driveSlide
+			a.anchorA, a.anchorB = j.pAnchor, j.cAnchor
 		}
 	case m.Ballast:
 		b := p.ballast
 		if b == nil {
 			return errors.New("drives the ballast, but the robot has none")
 		}
-		if b.slide != nil {
+		if b.limit != nil {
 			return errors.New("the ballast is already driven by another actuator")
 		}
-		a.drive, a.bal, a.offset = driveBallast, b, slideOffset
+		a.drive, a.bal = driveBallast, b
 		a.a, a.b = b.link.body, b.body
-		a.anchorA, a.anchorB = b.origin.Sub(b.axis.Mult(slideOffset)), cp.Vector{}
+		a.anchorA = b.origin
 	default:
 		return errors.New("drives nothing: give a joint, the ballast, or from and to")
 	}
@@ -105,16 +102,20 @@ func (p *Plant) buildActuator(m *models.Actuator, a *actuator) error {
 	if m.Kind == models.TorqueMotor {
 		return nil
 	}
-	if a.drive == driveRotary {
-		c := cp.NewRotaryLimitJoint(a.a, a.b, a.screw, a.screw)
-		a.rotary = p.addConstraint(c, actuatorCorrection).Class.(*cp.RotaryLimitJoint)
-	} else {
-		d := a.screw + a.offset
-		c := cp.NewSlideJoint(a.a, a.b, a.anchorA, a.anchorB, d, d)
-		a.slide = p.addConstraint(c, actuatorCorrection).Class.(*cp.SlideJoint)
-		if a.drive == driveBallast {
-			a.bal.slide = a.slide
-		}
+	var axis cp.Vector
+	geometry := limitDistance
+	switch a.drive {
+	case driveRotary:
+		geometry = limitAngle
+	case driveSlide:
+		geometry, axis = limitAxis, a.jnt.axis
+	case driveBallast:
+		geometry, axis = limitAxis, a.bal.axis
+	}
+	a.limit = newScrewLimit(geometry, a.a, a.b, a.anchorA, a.anchorB, axis, a.screw, actuatorCorrection)
+	p.space.AddConstraint(a.limit.Constraint)
+	if a.bal != nil {
+		a.bal.limit = a.limit
 	}
 	return nil
 }
@@ -193,12 +194,8 @@ func (a *actuator) before(dt, voltage float64, nominal bool) {
 		edge -= a.force / m.MountStiffness
 	}
 	a.edge = edge
-	lo, hi := edge-a.backlash/2+a.offset, edge+a.backlash/2+a.offset
-	if a.rotary != nil {
-		a.rotary.Min, a.rotary.Max = lo, hi
-	} else {
-		a.slide.Min, a.slide.Max = lo, hi
-	}
+	a.limit.Min, a.limit.Max = edge-a.backlash/2, edge+a.backlash/2
+	a.limit.Speed = a.speed
 }
 
 // after reads the load the limit constraint carried in the step just taken.
@@ -207,19 +204,7 @@ func (a *actuator) after(dt float64) {
 		a.screw = a.output()
 		return
 	}
-	var imp float64
-	if a.rotary != nil {
-		imp = a.rotary.GetImpulse() / dt
-	} else {
-		imp = a.slide.GetImpulse() / dt
-	}
-	// The impulse's magnitude only: which edge held the output gives the
-	// sign (beyond the upper edge the constraint pulls back: negative).
-	if a.output() > a.edge {
-		a.force = -imp
-	} else {
-		a.force = imp
-	}
+	a.force = a.limit.GetImpulse() / dt
 }
 
 // gap is output minus screw, within [-b/2, b/2] up to solver error.

@@ -74,7 +74,7 @@ type ballast struct {
 	origin cp.Vector // body-local
 	axis   cp.Vector // link frame
 	size   float64
-	slide  *cp.SlideJoint
+	limit  *screwLimit // holds or drives it along the slide
 }
 
 // position is the ballast's displacement along its slide.

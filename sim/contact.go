@@ -74,117 +74,90 @@ const (
 	contactBias = 0.2
 )
 
-// contactPoint is one bottom corner of a pad.
-type contactPoint struct {
+// padContact holds a pad's bottom centre on the ground, with Coulomb
+// friction of the pad's own coefficient, solved by sequential impulses like
+// cp's own contacts. A pad is a compliant point: its spring gives it its
+// compliance, and its width only shows in drawings and the support region.
+// (Two rigid corner contacts on a pad locked to its foot make the loads
+// statically indeterminate within the contact slop, so pads settled with
+// unequal loads.) The pad cannot turn relative to its foot, so the moment
+// of a contact impulse about the pad's centre goes straight to the foot's
+// rotation rather than through the pad's tiny inertia and the lock, which
+// Gauss-Seidel handles badly.
+type padContact struct {
+	*cp.Constraint
+	body, foot   *cp.Body
+	ground       *ground
+	halfT        float64
+	friction     float64
+	mInv, iInv   float64
 	active       bool
-	r, n         cp.Vector // from the pad centre to the corner, world; outward ground normal
+	r, n         cp.Vector // pad centre to contact point, world; outward ground normal
 	nMass, tMass float64
 	bias         float64 // target normal velocity
 	jn, jt       float64 // accumulated normal and tangent impulses
 }
 
-// padContact holds one pad's two bottom corners on the ground, with Coulomb
-// friction of the pad's own coefficient, solved by sequential impulses like
-// cp's own contacts.
-type padContact struct {
-	*cp.Constraint
-	body         *cp.Body
-	ground       *ground
-	halfW, halfT float64
-	friction     float64
-	pts          [2]contactPoint
-	mInv, iInv   float64
-}
-
-func newPadContact(body, static *cp.Body, g *ground, width, thickness, friction float64) *padContact {
-	c := &padContact{body: body, ground: g, halfW: width / 2, halfT: thickness / 2, friction: friction}
+func newPadContact(body, foot, static *cp.Body, g *ground, thickness, friction float64) *padContact {
+	c := &padContact{body: body, foot: foot, ground: g, halfT: thickness / 2, friction: friction}
 	c.Constraint = cp.NewConstraint(c, body, static)
 	return c
 }
 
 func (c *padContact) PreStep(dt float64) {
 	b := c.body
-	c.mInv, c.iInv = 1/b.Mass(), 1/b.Moment()
-	rot := b.Rotation()
-	centre := b.Position()
-	for i := range c.pts {
-		pt := &c.pts[i]
-		x := c.halfW
-		if i == 0 {
-			x = -x
-		}
-		r := rot.Rotate(cp.Vector{X: x, Y: -c.halfT})
-		d, n := c.ground.depth(centre.Add(r))
-		if d < -contactMargin {
-			pt.active, pt.jn, pt.jt = false, 0, 0
-			continue
-		}
-		pt.active, pt.r, pt.n = true, r, n
-		rn, rt := r.Cross(n), r.Cross(n.Perp())
-		pt.nMass = 1 / (c.mInv + c.iInv*rn*rn)
-		pt.tMass = 1 / (c.mInv + c.iInv*rt*rt)
-		switch {
-		case d > contactSlop:
-			pt.bias = contactBias * (d - contactSlop) / dt
-		case d < 0:
-			pt.bias = d / dt // may approach by the gap, no faster
-		default:
-			pt.bias = 0
-		}
+	c.mInv, c.iInv = 1/b.Mass(), 1/(c.foot.Moment()+b.Moment())
+	r := b.Rotation().Rotate(cp.Vector{Y: -c.halfT})
+	d, n := c.ground.depth(b.Position().Add(r))
+	if d < -contactMargin {
+		c.active, c.jn, c.jt = false, 0, 0
+		return
+	}
+	c.active, c.r, c.n = true, r, n
+	rn, rt := r.Cross(n), r.Cross(n.Perp())
+	c.nMass = 1 / (c.mInv + c.iInv*rn*rn)
+	c.tMass = 1 / (c.mInv + c.iInv*rt*rt)
+	switch {
+	case d > contactSlop:
+		c.bias = contactBias * (d - contactSlop) / dt
+	case d < 0:
+		c.bias = d / dt // may approach by the gap, no faster
+	default:
+		c.bias = 0
 	}
 }
 
-func (c *padContact) apply(pt *contactPoint, j cp.Vector) {
-	b := c.body
+func (c *padContact) apply(j cp.Vector) {
+	b, f := c.body, c.foot
 	b.SetVelocityVector(b.Velocity().Add(j.Mult(c.mInv)))
-	b.SetAngularVelocity(b.AngularVelocity() + c.iInv*pt.r.Cross(j))
+	f.SetAngularVelocity(f.AngularVelocity() + c.iInv*c.r.Cross(j))
 }
 
 func (c *padContact) ApplyCachedImpulse(dtCoef float64) {
-	for i := range c.pts {
-		pt := &c.pts[i]
-		if pt.active {
-			c.apply(pt, pt.n.Rotate(cp.Vector{X: pt.jn, Y: pt.jt}).Mult(dtCoef))
-		}
+	if c.active {
+		c.apply(c.n.Rotate(cp.Vector{X: c.jn, Y: c.jt}).Mult(dtCoef))
 	}
 }
 
 func (c *padContact) ApplyImpulse(dt float64) {
-	b := c.body
-	for i := range c.pts {
-		pt := &c.pts[i]
-		if !pt.active {
-			continue
-		}
-		vr := b.Velocity().Add(pt.r.Perp().Mult(b.AngularVelocity()))
-		t := pt.n.Perp()
-		jnOld := pt.jn
-		pt.jn = math.Max(jnOld+(pt.bias-vr.Dot(pt.n))*pt.nMass, 0)
-		jtMax := c.friction * pt.jn
-		jtOld := pt.jt
-		pt.jt = cp.Clamp(jtOld-vr.Dot(t)*pt.tMass, -jtMax, jtMax)
-		c.apply(pt, pt.n.Rotate(cp.Vector{X: pt.jn - jnOld, Y: pt.jt - jtOld}))
+	if !c.active {
+		return
 	}
+	vr := c.body.Velocity().Add(c.r.Perp().Mult(c.foot.AngularVelocity()))
+	t := c.n.Perp()
+	jnOld := c.jn
+	c.jn = math.Max(jnOld+(c.bias-vr.Dot(c.n))*c.nMass, 0)
+	jtMax := c.friction * c.jn
+	jtOld := c.jt
+	c.jt = cp.Clamp(jtOld-vr.Dot(t)*c.tMass, -jtMax, jtMax)
+	c.apply(c.n.Rotate(cp.Vector{X: c.jn - jnOld, Y: c.jt - jtOld}))
 }
 
-// GetImpulse is the total normal impulse of the last step.
-func (c *padContact) GetImpulse() float64 {
-	return c.pts[0].jn + c.pts[1].jn
-}
+// GetImpulse is the normal impulse of the last step.
+func (c *padContact) GetImpulse() float64 { return c.jn }
 
-// centreX is the impulse-weighted x of the contact points, for the centre
-// of pressure; ok is false without contact.
-func (c *padContact) centreX() (x, jn float64) {
-	p := c.body.Position()
-	for i := range c.pts {
-		pt := &c.pts[i]
-		if pt.active && pt.jn > 0 {
-			x += (p.X + pt.r.X) * pt.jn
-			jn += pt.jn
-		}
-	}
-	return x, jn
-}
+// point is the contact point, world.
+func (c *padContact) point() cp.Vector { return c.body.Position().Add(c.r) }
 
 // slideFriction is Coulomb friction along a prismatic joint: the relative
 // velocity of the two anchors along the axis is driven to zero with an
@@ -238,3 +211,133 @@ func (f *slideFriction) ApplyImpulse(dt float64) {
 }
 
 func (f *slideFriction) GetImpulse() float64 { return math.Abs(f.jAcc) }
+
+// What a screwLimit measures.
+type limitGeometry int
+
+const (
+	limitDistance limitGeometry = iota // distance between two anchors
+	limitAxis                          // displacement of b's anchor from a's along an axis fixed in a
+	limitAngle                         // b's angle minus a's
+)
+
+// screwLimit keeps a coordinate q of two bodies within [Min, Max], edges
+// that move at Speed: the output of a lead screw with backlash, free inside
+// the band and driven rigidly, with unlimited force, at its edges. Unlike
+// cp's slide and rotary-limit joints it keeps a signed impulse per edge
+// (the load is read from it), warm-starts each edge on its own, and feeds
+// the edges' speed forward so a moving screw is followed without lag.
+// Each edge is a speculative one-sided constraint: the coordinate may
+// approach an edge by the gap in a step, no faster.
+type screwLimit struct {
+	*cp.Constraint
+	geometry         limitGeometry
+	anchorA, anchorB cp.Vector // body-local
+	axis             cp.Vector // limitAxis: in a's body frame
+	Min, Max, Speed  float64
+	correction       float64 // fraction of a violation removed per step
+
+	q, mass  float64
+	r1, r2   cp.Vector
+	n        cp.Vector
+	biasLo   float64 // the velocity bounds of the step
+	biasHi   float64
+	jLo, jHi float64 // accumulated impulses: jLo >= 0 pushes q up, jHi <= 0 down
+}
+
+func newScrewLimit(geometry limitGeometry, a, b *cp.Body, anchorA, anchorB, axis cp.Vector, q, correction float64) *screwLimit {
+	l := &screwLimit{geometry: geometry, anchorA: anchorA, anchorB: anchorB, axis: axis, Min: q, Max: q, correction: correction}
+	l.Constraint = cp.NewConstraint(l, a, b)
+	return l
+}
+
+// coordinate measures q and, for the linear kinds, the lever arms.
+func (l *screwLimit) coordinate() float64 {
+	a, b := l.A(), l.B()
+	switch l.geometry {
+	case limitAngle:
+		return b.Angle() - a.Angle()
+	case limitAxis:
+		pa, pb := a.LocalToWorld(l.anchorA), b.LocalToWorld(l.anchorB)
+		l.n = a.Rotation().Rotate(l.axis)
+		l.r1, l.r2 = pb.Sub(a.Position()), pb.Sub(b.Position())
+		return pb.Sub(pa).Dot(l.n)
+	}
+	pa, pb := a.LocalToWorld(l.anchorA), b.LocalToWorld(l.anchorB)
+	d := pb.Sub(pa)
+	dist := d.Length()
+	if dist > 0 {
+		l.n = d.Mult(1 / dist)
+	} else {
+		l.n = cp.Vector{X: 1}
+	}
+	l.r1, l.r2 = pa.Sub(a.Position()), pb.Sub(b.Position())
+	return dist
+}
+
+// edgeRate is the speed at which q may close a gap to an edge in a step:
+// all of it when clear of the edge, a fraction of a violation.
+func (l *screwLimit) edgeRate(gap, dt float64) float64 {
+	if gap >= 0 {
+		return gap / dt
+	}
+	return l.correction * gap / dt
+}
+
+func (l *screwLimit) PreStep(dt float64) {
+	a, b := l.A(), l.B()
+	l.q = l.coordinate()
+	if l.geometry == limitAngle {
+		l.mass = 1 / (1/a.Moment() + 1/b.Moment())
+	} else {
+		r1n, r2n := l.r1.Cross(l.n), l.r2.Cross(l.n)
+		l.mass = 1 / (1/a.Mass() + 1/b.Mass() + r1n*r1n/a.Moment() + r2n*r2n/b.Moment())
+	}
+	// Over the step q' must stay within [biasLo, biasHi].
+	l.biasLo = l.Speed - l.edgeRate(l.q-l.Min, dt)
+	l.biasHi = l.Speed + l.edgeRate(l.Max-l.q, dt)
+}
+
+func (l *screwLimit) velocity() float64 {
+	a, b := l.A(), l.B()
+	if l.geometry == limitAngle {
+		return b.AngularVelocity() - a.AngularVelocity()
+	}
+	va := a.Velocity().Add(l.r1.Perp().Mult(a.AngularVelocity()))
+	vb := b.Velocity().Add(l.r2.Perp().Mult(b.AngularVelocity()))
+	return vb.Sub(va).Dot(l.n)
+}
+
+func (l *screwLimit) impulse(j float64) {
+	a, b := l.A(), l.B()
+	if l.geometry == limitAngle {
+		a.SetAngularVelocity(a.AngularVelocity() - j/a.Moment())
+		b.SetAngularVelocity(b.AngularVelocity() + j/b.Moment())
+		return
+	}
+	jv := l.n.Mult(j)
+	a.SetVelocityVector(a.Velocity().Sub(jv.Mult(1 / a.Mass())))
+	a.SetAngularVelocity(a.AngularVelocity() - l.r1.Cross(jv)/a.Moment())
+	b.SetVelocityVector(b.Velocity().Add(jv.Mult(1 / b.Mass())))
+	b.SetAngularVelocity(b.AngularVelocity() + l.r2.Cross(jv)/b.Moment())
+}
+
+func (l *screwLimit) ApplyCachedImpulse(dtCoef float64) {
+	l.jLo *= dtCoef
+	l.jHi *= dtCoef
+	l.impulse(l.jLo + l.jHi)
+}
+
+func (l *screwLimit) ApplyImpulse(dt float64) {
+	v := l.velocity()
+	old := l.jLo
+	l.jLo = math.Max(old+(l.biasLo-v)*l.mass, 0)
+	l.impulse(l.jLo - old)
+	v = l.velocity()
+	old = l.jHi
+	l.jHi = math.Min(old+(l.biasHi-v)*l.mass, 0)
+	l.impulse(l.jHi - old)
+}
+
+// GetImpulse is the signed impulse of the last step along +q.
+func (l *screwLimit) GetImpulse() float64 { return l.jLo + l.jHi }

@@ -1,6 +1,10 @@
 package sim
 
-import "math"
+import (
+	"math"
+
+	"teeter/models"
+)
 
 // HoldPose is a stand-in controller that drives every actuator back to the
 // position it had when the plant was built, with a proportional command on
@@ -43,3 +47,7 @@ func (h *HoldPose) Tick(now float64, readings, commands []float64) {
 		commands[i] = math.Max(-1, math.Min(1, (h.targets[i]-a.screw)/(v0*tc)))
 	}
 }
+
+// NewHoldPose returns a hold-pose controller for a plant of robot r; it
+// takes its targets from the plant it is given to.
+func NewHoldPose(r *models.Robot) *HoldPose { return &HoldPose{} }

@@ -297,12 +297,10 @@ func (p *Plant) build() error {
 			return fmt.Errorf("actuator %q: %w", r.Actuators[i].Name, err)
 		}
 	}
-	if r.Ballast != nil && p.ballast.slide == nil {
+	if b := p.ballast; b != nil && b.limit == nil {
 		// No actuator drives it: hold it where it was written.
-		b := p.ballast
-		d := slideOffset + r.Ballast.Position
-		c := cp.NewSlideJoint(b.link.body, b.body, b.origin.Sub(b.axis.Mult(slideOffset)), cp.Vector{}, d, d)
-		b.slide = p.addConstraint(c, actuatorCorrection).Class.(*cp.SlideJoint)
+		b.limit = newScrewLimit(limitAxis, b.link.body, b.body, b.origin, cp.Vector{}, b.axis, r.Ballast.Position, actuatorCorrection)
+		p.space.AddConstraint(b.limit.Constraint)
 	}
 	p.battery = newBattery(r.Battery)
 	return nil
@@ -383,7 +381,7 @@ func (p *Plant) buildPad(foot *link, mp *models.Pad) {
 	p.addConstraint(cp.NewGearJoint(a, body, 0, 1), jointCorrection)
 	p.addConstraint(cp.NewDampedSpring(a, body, rest.Add(cp.Vector{Y: padSpringLength}), cp.Vector{}, padSpringLength, mp.Stiffness, mp.Damping), jointCorrection)
 	pd := pad{name: mp.Name, foot: foot, body: body, rest: rest, width: mp.Width, thickness: mp.Thickness}
-	pd.contact = newPadContact(body, p.space.StaticBody, &p.ground, mp.Width, mp.Thickness, mp.Friction)
+	pd.contact = newPadContact(body, foot.body, p.space.StaticBody, &p.ground, mp.Thickness, mp.Friction)
 	p.space.AddConstraint(pd.contact.Constraint)
 	p.pads = append(p.pads, pd)
 }
@@ -633,9 +631,11 @@ func (p *Plant) centreOfMass() cp.Vector {
 func (p *Plant) centreOfPressure() (float64, bool) {
 	x, j := 0.0, 0.0
 	for i := range p.pads {
-		px, pj := p.pads[i].contact.centreX()
-		x += px
-		j += pj
+		c := p.pads[i].contact
+		if c.active && c.jn > 0 {
+			x += c.point().X * c.jn
+			j += c.jn
+		}
 	}
 	if j <= 0 {
 		return 0, false
