@@ -283,9 +283,12 @@ func (r *Runner[S]) loop() {
 	defer close(r.done)
 	var wallStart time.Time
 	var simStart float64
+	var rateWall time.Time
+	var rateSim float64
 	restartClock := func() {
 		wallStart = time.Now()
 		simStart = r.plant.Time()
+		rateWall, rateSim = wallStart, simStart
 	}
 	timer := time.NewTimer(time.Hour)
 	defer timer.Stop()
@@ -319,7 +322,6 @@ func (r *Runner[S]) loop() {
 			continue
 		}
 		begin := time.Now()
-		simBegin := r.plant.Time()
 		deadline := begin.Add(frame)
 		target := math.Inf(1)
 		if r.speed > 0 {
@@ -338,11 +340,13 @@ func (r *Runner[S]) loop() {
 		}
 		r.publish()
 		elapsed := time.Since(begin)
-		r.mu.Lock()
-		if s := elapsed.Seconds(); s > 0 {
-			r.status.Achieved = (r.plant.Time() - simBegin) / s
+		// Achieved speed over about half a second of wall time, sleeps included.
+		if wall := time.Since(rateWall).Seconds(); wall >= 0.5 {
+			r.mu.Lock()
+			r.status.Achieved = (r.plant.Time() - rateSim) / wall
+			r.mu.Unlock()
+			rateWall, rateSim = time.Now(), r.plant.Time()
 		}
-		r.mu.Unlock()
 		if r.speed > 0 && r.plant.Time() < target {
 			// Behind real time: do not try to catch up later in a burst.
 			restartClock()

@@ -1,0 +1,108 @@
+package ui
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/widget"
+
+	"teeter/models"
+)
+
+// kindOfUnit finds the kind of quantity an SI unit text names ("" is a
+// plain number).
+func kindOfUnit(unit string) (models.Kind, bool) {
+	if unit == "" {
+		return models.Dimensionless, true
+	}
+	_, k, err := models.ParseQuantity("1 " + unit)
+	if err != nil {
+		return models.Kind{}, false
+	}
+	return k, true
+}
+
+// parseValue reads an entry's text as a quantity of the given SI unit
+// within [lo, hi], or says why not.
+func parseValue(text, unit string, lo, hi float64) (float64, error) {
+	var v float64
+	if k, ok := kindOfUnit(unit); ok {
+		var err error
+		v, _, err = models.ParseQuantity(text, k)
+		if err != nil {
+			return 0, err
+		}
+	} else {
+		var err error
+		v, err = strconv.ParseFloat(text, 64)
+		if err != nil {
+			return 0, fmt.Errorf("%q is not a number", text)
+		}
+	}
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("%q is not a finite number", text)
+	}
+	if v < lo || v > hi {
+		return 0, fmt.Errorf("%s is out of range %s to %s", formatValue(v, unit), formatValue(lo, unit), formatValue(hi, unit))
+	}
+	return v, nil
+}
+
+func formatValue(v float64, unit string) string {
+	s := strconv.FormatFloat(v, 'g', 5, 64)
+	if math.IsInf(v, 1) {
+		s = "no limit"
+	} else if math.IsInf(v, -1) {
+		s = "no limit"
+	}
+	if unit == "" {
+		return s
+	}
+	return s + " " + unit
+}
+
+// numberField is an entry for one quantity: it applies a value only when
+// the text is a number of the right kind and in range, and shows the reason
+// beside itself otherwise.
+type numberField struct {
+	Entry  *widget.Entry
+	Reason *widget.Label
+	unit   string
+	lo, hi float64
+	apply  func(v float64)
+}
+
+func newNumberField(unit string, lo, hi float64, apply func(float64)) *numberField {
+	f := &numberField{Entry: widget.NewEntry(), Reason: widget.NewLabel(""), unit: unit, lo: lo, hi: hi, apply: apply}
+	f.Reason.Importance = widget.DangerImportance
+	f.Reason.Wrapping = fyne.TextWrapWord
+	f.Reason.Hide()
+	f.Entry.OnSubmitted = func(text string) { f.submit(text) }
+	return f
+}
+
+// submit parses text and applies it; it reports whether it did.
+func (f *numberField) submit(text string) bool {
+	v, err := parseValue(text, f.unit, f.lo, f.hi)
+	if err != nil {
+		f.Reason.SetText(err.Error())
+		f.Reason.Show()
+		return false
+	}
+	f.Reason.Hide()
+	f.apply(v)
+	return true
+}
+
+// show puts a value into the entry without applying it.
+func (f *numberField) show(v float64) {
+	f.Entry.SetText(formatValue(v, f.unit))
+	f.Reason.Hide()
+}
+
+func (f *numberField) object() fyne.CanvasObject {
+	return container.NewVBox(f.Entry, f.Reason)
+}

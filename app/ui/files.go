@@ -1,0 +1,355 @@
+package ui
+
+import (
+	"bufio"
+	"fmt"
+	"image"
+	"image/png"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/driver/software"
+	"git.sr.ht/~sbinet/gg"
+
+	"teeter/control"
+	"teeter/models"
+	"teeter/sim"
+	"teeter/sim/live"
+)
+
+// writeFileAtomic writes through a temporary file in the same directory and
+// renames it over the target, so a failed write never leaves half a file.
+func writeFileAtomic(path string, write func(io.Writer) error) error {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*.tmp")
+	if err != nil {
+		return err
+	}
+	tmp := f.Name()
+	bw := bufio.NewWriter(f)
+	err = write(bw)
+	if err == nil {
+		err = bw.Flush()
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp, path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+	}
+	return err
+}
+
+func savePNG(path string, img image.Image) error {
+	return writeFileAtomic(path, func(w io.Writer) error { return png.Encode(w, img) })
+}
+
+const recentKey = "recent_files"
+
+func (w *Window) addRecent(path string) {
+	prefs := w.app.Preferences()
+	list := []string{path}
+	for _, p := range prefs.StringList(recentKey) {
+		if p != path && len(list) < 8 {
+			list = append(list, p)
+		}
+	}
+	prefs.SetStringList(recentKey, list)
+	w.win.SetMainMenu(w.menu())
+}
+
+func (w *Window) menu() *fyne.MainMenu {
+	var recent []*fyne.MenuItem
+	for _, p := range w.app.Preferences().StringList(recentKey) {
+		p := p
+		recent = append(recent, fyne.NewMenuItem(p, func() { w.OpenRobot(p) }))
+	}
+	recentItem := fyne.NewMenuItem("Recent robots", nil)
+	if len(recent) == 0 {
+		recentItem.Disabled = true
+	} else {
+		recentItem.ChildMenu = fyne.NewMenu("", recent...)
+	}
+	file := fyne.NewMenu("File",
+		fyne.NewMenuItem("Open robot…", w.openDialog),
+		recentItem,
+		fyne.NewMenuItem("Save robot", w.saveRobot),
+		fyne.NewMenuItem("Save robot as…", w.saveRobotAs),
+		fyne.NewMenuItemSeparator(),
+		fyne.NewMenuItem("Load gains…", func() { w.openFile(w.LoadGains) }),
+		fyne.NewMenuItem("Save gains…", func() { w.saveFile("gains.yaml", w.SaveGains) }),
+		fyne.NewMenuItem("Export firmware header…", func() { w.saveFile("gains.h", w.ExportHeader) }),
+		fyne.NewMenuItemSeparator(),
+		fyne.NewMenuItem("Export traces as CSV…", func() { w.saveFile("traces.csv", w.ExportCSV) }),
+		fyne.NewMenuItem("Export plot as PNG…", func() { w.saveFile("plot.png", w.ExportPlotPNG) }),
+	)
+	edit := fyne.NewMenu("Edit",
+		fyne.NewMenuItem("Undo", w.Undo),
+		fyne.NewMenuItem("Redo", w.Redo),
+	)
+	sim := fyne.NewMenu("Run",
+		fyne.NewMenuItem("Run / pause", w.toggleRun),
+		fyne.NewMenuItem("Single step", func() { w.after(w.run.StepOnce()) }),
+		fyne.NewMenuItem("Reset", w.reset),
+	)
+	return fyne.NewMainMenu(file, edit, sim)
+}
+
+// report runs a file action and shows its error.
+func (w *Window) report(title string, err error) {
+	if err != nil {
+		w.showError(title, err)
+	}
+}
+
+func (w *Window) openDialog() {
+	w.openFile(w.OpenRobot)
+}
+
+func (w *Window) openFile(do func(string) error) {
+	d := dialog.NewFileOpen(func(r fyne.URIReadCloser, err error) {
+		if err != nil || r == nil {
+			return
+		}
+		path := r.URI().Path()
+		r.Close()
+		do(path)
+	}, w.win)
+	d.Show()
+}
+
+func (w *Window) saveFile(name string, do func(string) error) {
+	d := dialog.NewFileSave(func(wc fyne.URIWriteCloser, err error) {
+		if err != nil || wc == nil {
+			return
+		}
+		path := wc.URI().Path()
+		wc.Close()
+		if err := do(path); err != nil {
+			w.showError("Could not write "+path, err)
+			return
+		}
+		w.notice.SetText("Wrote " + path)
+	}, w.win)
+	d.SetFileName(name)
+	d.Show()
+}
+
+// OpenRobot loads a robot file. A bad file shows every problem with its
+// line and leaves the current session as it was.
+func (w *Window) OpenRobot(path string) error {
+	r, err := models.Load(path)
+	var spec *control.Spec
+	if err == nil {
+		spec, err = loadSpec(r)
+	}
+	if err == nil && spec != nil {
+		_, err = control.Build(spec, sim.Channels(r), sim.ActuatorNames(r))
+	}
+	if err == nil {
+		err = <-w.run.SetRobot(r.Clone())
+	}
+	if err != nil {
+		w.showError("Could not open "+path+"; the current robot is kept", err)
+		return err
+	}
+	w.setModel(r, path, spec)
+	w.addRecent(path)
+	w.refresh()
+	return nil
+}
+
+// currentRobot is the robot with the window's parameter changes.
+func (w *Window) currentRobot() *models.Robot {
+	r := w.robot.Clone()
+	for p, v := range w.rparam {
+		_ = models.SetParam(r, p, v)
+	}
+	return r
+}
+
+func (w *Window) saveRobot() {
+	if w.path == "" || strings.HasPrefix(w.path, "builtin:") {
+		w.saveRobotAs()
+		return
+	}
+	w.report("Could not save", w.SaveRobot(w.path))
+}
+
+func (w *Window) saveRobotAs() { w.saveFile("robot.yaml", w.SaveRobot) }
+
+// SaveRobot writes the robot with the parameter changes made in the window
+// (gains are saved with SaveGains).
+func (w *Window) SaveRobot(path string) error {
+	if err := models.SaveFile(path, w.currentRobot()); err != nil {
+		return err
+	}
+	w.path = path
+	w.addRecent(path)
+	return nil
+}
+
+// gainSet is the current gains as a gain set.
+func (w *Window) gainSet() control.GainSet {
+	gs := control.GainSet{}
+	if w.spec != nil {
+		gs.Rate = w.spec.Rate
+	}
+	for _, p := range w.params {
+		gs.Gains = append(gs.Gains, control.Gain{Path: p.Path, Value: w.gains[p.Path]})
+	}
+	return gs
+}
+
+// SaveGains writes the current gains (JSON for .json, else YAML).
+func (w *Window) SaveGains(path string) error {
+	return control.WriteGains(path, w.gainSet())
+}
+
+// LoadGains reads a gain set and applies all of it, or nothing when any
+// entry is unknown or out of range; each applied gain can be undone.
+func (w *Window) LoadGains(path string) error {
+	gs, err := control.ReadGains(path)
+	if err == nil {
+		var ps models.Problems
+		for _, g := range gs.Gains {
+			row, ok := w.gainRows[g.Path]
+			switch {
+			case !ok:
+				ps.Add(g.Pos, "gains."+g.Path, "this controller has no such parameter")
+			case g.Value < row.info.Min || g.Value > row.info.Max:
+				ps.Add(g.Pos, "gains."+g.Path, "%g is out of range %g to %g", g.Value, row.info.Min, row.info.Max)
+			}
+		}
+		err = ps.Err()
+	}
+	if err != nil {
+		w.showError("Could not load gains from "+path, err)
+		return err
+	}
+	for _, g := range gs.Gains {
+		w.setGain(g.Path, g.Value, false)
+	}
+	w.notice.SetText(fmt.Sprintf("Loaded %d gains from %s", len(gs.Gains), path))
+	return nil
+}
+
+// ExportHeader writes the current gains as a C header for firmware.
+func (w *Window) ExportHeader(path string) error {
+	params := append([]control.ParamInfo(nil), w.params...)
+	for i := range params {
+		params[i].Value = w.gains[params[i].Path]
+	}
+	rate := 0.0
+	if w.spec != nil {
+		rate = w.spec.Rate
+	}
+	data := control.CHeader(params, rate, w.robot.Source)
+	return writeFileAtomic(path, func(wr io.Writer) error { _, err := wr.Write(data); return err })
+}
+
+// ExportCSV writes every recorded signal of the rolling trace.
+func (w *Window) ExportCSV(path string) error {
+	names := w.run.SignalNames()
+	idx := make([]int, len(names))
+	for i := range idx {
+		idx[i] = i
+	}
+	var tr live.Trace
+	w.run.Recent(&tr, 1e9, idx)
+	return writeFileAtomic(path, func(wr io.Writer) error {
+		bw := bufio.NewWriter(wr)
+		bw.WriteString("time [s]")
+		for _, n := range names {
+			bw.WriteString(",")
+			bw.WriteString(n)
+			if u := signalUnit(n); u != "" {
+				bw.WriteString(" [" + u + "]")
+			}
+		}
+		bw.WriteString("\n")
+		for i, t := range tr.Time {
+			bw.WriteString(strconv.FormatFloat(t, 'g', -1, 64))
+			for k := range names {
+				bw.WriteString(",")
+				bw.WriteString(strconv.FormatFloat(tr.Values[k][i], 'g', -1, 64))
+			}
+			bw.WriteString("\n")
+		}
+		return bw.Flush()
+	})
+}
+
+// ExportPlotPNG writes the plots as they are shown, at 1200 x 800 pixels.
+func (w *Window) ExportPlotPNG(path string) error {
+	dc := gg.NewContext(1200, 800)
+	w.traces.draw(dc, 1200, 800)
+	return savePNG(path, dc.Image())
+}
+
+// Capture writes a picture of the whole window as PNG. Where the graphics
+// driver cannot read its frame back (a blank picture, as under a virtual X
+// server), the window's content is drawn by fyne's software painter at the
+// window's size instead.
+func (w *Window) Capture(path string) error {
+	img := w.win.Canvas().Capture()
+	if uniform(img) {
+		content := w.win.Content()
+		size := w.win.Canvas().Size()
+		c := software.NewCanvas()
+		c.SetContent(content)
+		c.Resize(size)
+		img = c.Capture()
+		w.win.SetContent(content)
+	}
+	return savePNG(path, img)
+}
+
+// uniform reports whether an image is one colour throughout.
+func uniform(img image.Image) bool {
+	b := img.Bounds()
+	if b.Empty() {
+		return true
+	}
+	first := img.At(b.Min.X, b.Min.Y)
+	r0, g0, b0, a0 := first.RGBA()
+	for y := b.Min.Y; y < b.Max.Y; y += 7 {
+		for x := b.Min.X; x < b.Max.X; x += 7 {
+			r, g, bl, a := img.At(x, y).RGBA()
+			if r != r0 || g != g0 || bl != b0 || a != a0 {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// ShowAndCapture shows the window, runs the simulation for the given wall
+// time, writes a picture of the window to path and quits.
+func (w *Window) ShowAndCapture(path string, after time.Duration) error {
+	var result error
+	<-w.run.Run()
+	go func() {
+		time.Sleep(after)
+		fyne.DoAndWait(func() {
+			w.lastVer = 0
+			w.refresh()
+		})
+		// Let the driver paint the refreshed frame before capturing it.
+		time.Sleep(300 * time.Millisecond)
+		fyne.DoAndWait(func() {
+			result = w.Capture(path)
+			w.app.Quit()
+		})
+	}()
+	w.ShowAndRun()
+	return result
+}

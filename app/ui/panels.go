@@ -1,0 +1,261 @@
+package ui
+
+import (
+	"fmt"
+	"math"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/theme"
+	"fyne.io/fyne/v2/widget"
+
+	"teeter/control"
+	"teeter/models"
+)
+
+// gainRow is one tunable parameter: a slider, a numeric entry, and a
+// button back to the file's value.
+type gainRow struct {
+	info     control.ParamInfo
+	slider   *widget.Slider
+	field    *numberField
+	updating bool // set while the window moves the slider itself
+}
+
+func (w *Window) buildGainRows() {
+	w.gainRows = map[string]*gainRow{}
+	w.gainBox.Objects = nil
+	if len(w.params) == 0 {
+		w.gainBox.Add(widget.NewLabel("This robot's controller has no tunable parameters."))
+	}
+	undo := widget.NewButtonWithIcon("Undo", theme.ContentUndoIcon(), w.Undo)
+	redo := widget.NewButtonWithIcon("Redo", theme.ContentRedoIcon(), w.Redo)
+	w.gainBox.Add(container.NewHBox(undo, redo, widget.NewLabel("Changes apply at the next controller tick.")))
+	block := ""
+	for _, p := range w.params {
+		if p.Block != block {
+			block = p.Block
+			h := widget.NewLabelWithStyle(block, fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+			w.gainBox.Add(widget.NewSeparator())
+			w.gainBox.Add(h)
+		}
+		row := w.newGainRow(p)
+		w.gainRows[p.Path] = row
+		w.gainBox.Add(row.object(w))
+	}
+	w.gainBox.Refresh()
+}
+
+func (w *Window) newGainRow(p control.ParamInfo) *gainRow {
+	row := &gainRow{info: p}
+	lo, hi := p.SliderMin, p.SliderMax
+	if !(hi > lo) {
+		lo, hi = p.Value-1, p.Value+1
+	}
+	row.slider = widget.NewSlider(lo, hi)
+	row.slider.Step = (hi - lo) / 1000
+	row.slider.Value = math.Max(lo, math.Min(hi, p.Value))
+	row.slider.OnChanged = func(v float64) {
+		if row.updating {
+			return
+		}
+		w.setGain(p.Path, v, true)
+	}
+	row.slider.OnChangeEnded = func(float64) { w.hist.close() }
+	row.field = newNumberField(p.Unit, p.Min, p.Max, func(v float64) {
+		w.setGain(p.Path, v, false)
+	})
+	row.field.show(p.Value)
+	return row
+}
+
+func (row *gainRow) object(w *Window) fyne.CanvasObject {
+	p := row.info
+	back := widget.NewButtonWithIcon("", theme.HistoryIcon(), func() { w.setGain(p.Path, p.Value, false) })
+	name := widget.NewLabel(p.Name)
+	unit := p.Unit
+	if unit == "" {
+		unit = "—"
+	}
+	top := container.NewBorder(nil, nil, name, container.NewHBox(widget.NewLabel(unit), back), row.slider)
+	return container.NewVBox(top, row.field.object())
+}
+
+// show moves the row's controls to v without sending anything.
+func (row *gainRow) show(v float64) {
+	row.updating = true
+	row.slider.SetValue(math.Max(row.slider.Min, math.Min(row.slider.Max, v)))
+	row.updating = false
+	row.field.show(v)
+}
+
+// setGain sends a gain to the runner and records it for undo; drag says
+// that a slider is still moving.
+func (w *Window) setGain(path string, v float64, drag bool) {
+	old, ok := w.gains[path]
+	if !ok {
+		return
+	}
+	if v == old {
+		return
+	}
+	w.hist.record(change{Kind: "gain", Path: path, Old: old, New: v, open: drag})
+	w.applyGain(path, v)
+}
+
+func (w *Window) applyGain(path string, v float64) {
+	w.gains[path] = v
+	w.after(w.run.SetGain(path, v))
+	if row := w.gainRows[path]; row != nil {
+		row.show(v)
+	}
+}
+
+// Undo reverts the last gain or robot change.
+func (w *Window) Undo() {
+	if c, ok := w.hist.undo(); ok {
+		w.applyChange(c, c.Old)
+	}
+}
+
+// Redo applies the last undone change again.
+func (w *Window) Redo() {
+	if c, ok := w.hist.redo(); ok {
+		w.applyChange(c, c.New)
+	}
+}
+
+func (w *Window) applyChange(c change, v float64) {
+	if c.Kind == "gain" {
+		w.applyGain(c.Path, v)
+	} else {
+		w.applyRobotParam(c.Path, v)
+	}
+}
+
+// showBlock lists a block's parameters under the graph, tunable like the
+// gains tab.
+func (w *Window) showBlock(block string) {
+	w.blockBox.Objects = nil
+	w.blockBox.Add(widget.NewLabelWithStyle(block, fyne.TextAlignLeading, fyne.TextStyle{Bold: true}))
+	if w.spec != nil {
+		for _, b := range w.spec.Blocks {
+			if b.Name != block {
+				continue
+			}
+			w.blockBox.Add(widget.NewLabel("kind: " + b.Kind))
+			for _, in := range b.Inputs {
+				src := in.Source
+				if src == "" {
+					src = "(not wired)"
+				}
+				w.blockBox.Add(widget.NewLabel(fmt.Sprintf("input %s ← %s", in.Name, src)))
+			}
+			for k, v := range b.Options {
+				w.blockBox.Add(widget.NewLabel(fmt.Sprintf("%s: %s", k, v)))
+			}
+		}
+	}
+	any := false
+	for _, p := range w.params {
+		if p.Block != block {
+			continue
+		}
+		any = true
+		// A second row on the same gain; the gains tab follows its changes.
+		row := w.newGainRow(p)
+		row.show(w.gains[p.Path])
+		w.blockBox.Add(row.object(w))
+	}
+	if !any {
+		w.blockBox.Add(widget.NewLabel("No tunable parameters."))
+	}
+	w.blockBox.Refresh()
+}
+
+// robotParam is one robot parameter the window offers.
+type robotParam struct {
+	Label, Path, Unit string
+}
+
+// robotParams lists what the robot tab offers for r.
+func robotParams(r *models.Robot) []robotParam {
+	var out []robotParam
+	unitOf := func(a *models.Actuator, lin, rot string) string {
+		if a.Linear {
+			return lin
+		}
+		return rot
+	}
+	if len(r.Actuators) > 0 {
+		u := unitOf(&r.Actuators[0], "m", "rad")
+		for _, a := range r.Actuators[1:] {
+			if unitOf(&a, "m", "rad") != u {
+				u = "" // mixed: a plain number in SI
+			}
+		}
+		out = append(out, robotParam{"Backlash, every actuator", "actuators.backlash", u})
+	}
+	for i := range r.Actuators {
+		a := &r.Actuators[i]
+		out = append(out, robotParam{"Backlash, " + a.Name, "actuators." + a.Name + ".backlash", unitOf(a, "m", "rad")})
+	}
+	for i := range r.Actuators {
+		a := &r.Actuators[i]
+		out = append(out, robotParam{"Speed, " + a.Name, "actuators." + a.Name + ".no_load_speed", unitOf(a, "m/s", "rad/s")})
+	}
+	if r.Ballast != nil {
+		out = append(out, robotParam{"Ballast mass", "ballast.mass", "kg"}, robotParam{"Ballast position", "ballast.position", "m"})
+	}
+	if len(r.Feet) > 0 {
+		out = append(out, robotParam{"Pad stiffness", "feet.pad_stiffness", "N/m"},
+			robotParam{"Pad damping", "feet.pad_damping", "N*s/m"},
+			robotParam{"Pad travel", "feet.pad_travel", "m"})
+	}
+	if r.Battery != nil {
+		out = append(out, robotParam{"Battery voltage (full)", "battery.voltage", "V"})
+	}
+	out = append(out, robotParam{"Sensor noise (1 = as written)", "sensors.noise", ""})
+	return out
+}
+
+func (w *Window) buildRobotRows() {
+	w.robotBox.Objects = nil
+	w.robotBox.Add(widget.NewLabel("Changing these rebuilds the robot: the run restarts, the gains are kept."))
+	for _, rp := range robotParams(w.robot) {
+		rp := rp
+		v, err := models.GetParam(w.robot, rp.Path)
+		if err != nil {
+			continue
+		}
+		f := newNumberField(rp.Unit, math.Inf(-1), math.Inf(1), nil)
+		f.apply = func(v float64) {
+			// Check against the model first, so a bad value shows beside
+			// the entry and is never applied.
+			probe := w.robot.Clone()
+			for p, x := range w.rparam {
+				_ = models.SetParam(probe, p, x)
+			}
+			if err := models.SetParam(probe, rp.Path, v); err != nil {
+				f.Reason.SetText(err.Error())
+				f.Reason.Show()
+				return
+			}
+			old, ok := w.rparam[rp.Path]
+			if !ok {
+				old, _ = models.GetParam(w.robot, rp.Path)
+			}
+			w.hist.record(change{Kind: "robot", Path: rp.Path, Old: old, New: v})
+			w.applyRobotParam(rp.Path, v)
+		}
+		f.show(v)
+		w.robotBox.Add(container.NewBorder(nil, nil, widget.NewLabel(rp.Label), nil, f.object()))
+	}
+	w.robotBox.Refresh()
+}
+
+func (w *Window) applyRobotParam(path string, v float64) {
+	w.rparam[path] = v
+	w.after(w.run.SetParam(path, v))
+	w.lastVer = 0
+}

@@ -1,0 +1,180 @@
+package ui
+
+import (
+	"errors"
+	"math"
+	"slices"
+	"strings"
+
+	"teeter/control"
+	"teeter/models"
+	"teeter/sim"
+	"teeter/sim/live"
+)
+
+// physicsRate is the plant's step rate in the window.
+const physicsRate = 1000
+
+// loadSpec reads the controller section of a robot. A built-in robot
+// without one gets the built-in controller of the same name; other robots
+// without one get nil.
+func loadSpec(r *models.Robot) (*control.Spec, error) {
+	if r.Controller != nil {
+		return control.Parse(r.Controller)
+	}
+	if name, ok := strings.CutPrefix(r.Source, "builtin:"); ok && slices.Contains(control.BuiltinNames(), name) {
+		return control.Builtin(name)
+	}
+	return nil, nil
+}
+
+// simPlant drives a sim.Plant one controller tick at a time for the runner.
+type simPlant struct {
+	p       *sim.Plant
+	perTick int
+	rec     *sim.Recorder
+}
+
+// buildPlant makes the plant and controller graph for a robot, the real
+// Build of the window's runner.
+func buildPlant(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
+	spec, err := loadSpec(r)
+	if err != nil {
+		return nil, nil, err
+	}
+	var graph *control.Graph
+	var ctrl sim.Controller
+	rate := 200.0
+	if spec != nil {
+		graph, err = control.Build(spec, sim.Channels(r), sim.ActuatorNames(r))
+		if err != nil {
+			return nil, nil, err
+		}
+		ctrl = graph
+		if graph.Rate() > 0 {
+			rate = graph.Rate()
+		}
+	}
+	rate = math.Min(rate, physicsRate)
+	p, err := sim.New(r, ctrl, sim.Options{PhysicsRate: physicsRate, ControlRate: rate, RecordCapacity: 2})
+	if err != nil {
+		return nil, nil, err
+	}
+	sp := &simPlant{p: p, perTick: max(1, int(math.Round(physicsRate/rate))), rec: p.Recorder()}
+	if graph == nil {
+		return sp, nil, nil
+	}
+	return sp, graph, nil
+}
+
+// Step runs the physics steps of one controller tick. A fall is not an
+// error here: the runner reads it from Fall.
+func (s *simPlant) Step() error {
+	for range s.perTick {
+		if err := s.p.Step(); err != nil {
+			if errors.Is(err, sim.ErrFallen) {
+				return nil
+			}
+			return err
+		}
+	}
+	return nil
+}
+
+func (s *simPlant) Time() float64                 { return s.p.Time() }
+func (s *simPlant) Shove(sh sim.Shove) error      { return s.p.Shove(sh) }
+func (s *simPlant) Snapshot(dst *sim.Snapshot)    { s.p.Snapshot(dst) }
+func (s *simPlant) SignalNames() []string         { return append([]string(nil), s.rec.Columns()...) }
+func (s *simPlant) Fall() (bool, string, float64) { f, ok := s.p.Fall(); return ok, f.Reason, f.Time }
+
+// Signals copies the latest recorder row.
+func (s *simPlant) Signals(dst []float64) {
+	n := s.rec.Len()
+	if n == 0 {
+		clear(dst)
+		return
+	}
+	for i := range dst {
+		dst[i] = s.rec.At(n-1, i)
+	}
+}
+
+// sceneFromSnapshot fills sc from a plant snapshot, reusing its slices.
+func sceneFromSnapshot(sc *scene, r *models.Robot, s *sim.Snapshot) {
+	sc.GroundTilt, sc.StepX, sc.StepHeight = r.Ground.Tilt, r.Ground.StepX, r.Ground.StepHeight
+	sc.Links = sc.Links[:0]
+	for _, l := range s.Links {
+		sc.Links = append(sc.Links, sceneLink{Name: l.Name, Pose: models.Pose{Position: l.Position, Angle: l.Angle}, Shape: l.Shape, Root: l.Name == r.Root})
+	}
+	pose := func(name string) models.Pose {
+		for _, l := range s.Links {
+			if l.Name == name {
+				return models.Pose{Position: l.Position, Angle: l.Angle}
+			}
+		}
+		return models.Pose{}
+	}
+	sc.Joints = sc.Joints[:0]
+	for _, j := range r.Joints {
+		sc.Joints = append(sc.Joints, pose(j.Parent).Apply(j.ParentAnchor))
+	}
+	sc.Actuators = sc.Actuators[:0]
+	for i, a := range s.Actuators {
+		var m *models.Actuator
+		if i < len(r.Actuators) {
+			m = &r.Actuators[i]
+		}
+		sa := sceneActuator{Name: a.Name, AtEdge: a.AtEdge}
+		if m != nil && m.Backlash > 0 {
+			sa.HasGap = true
+			sa.Gap = math.Max(-1, math.Min(1, a.Gap/(m.Backlash/2)))
+		}
+		switch {
+		case a.BetweenPoints:
+			sa.From, sa.To = a.From, a.To
+		case a.Joint != "":
+			j := r.Joint(a.Joint)
+			if j == nil {
+				continue
+			}
+			p := pose(j.Parent).Apply(j.ParentAnchor)
+			if j.Kind == models.Prismatic {
+				// Along the slide: from the parent anchor to the child's.
+				sa.From, sa.To = p, pose(j.Child).Apply(j.ChildAnchor)
+			} else {
+				sa.From, sa.To, sa.Rotary = p, p, true
+			}
+		default:
+			continue // the ballast drive shows as the ballast itself
+		}
+		sc.Actuators = append(sc.Actuators, sa)
+	}
+	sc.Pads = sc.Pads[:0]
+	for _, p := range s.Pads {
+		travel := 0.0
+		if _, mp := r.Pad(p.Name); mp != nil {
+			travel = mp.Travel
+		}
+		frac := 0.0
+		if travel > 0 {
+			frac = p.Compression / travel
+		}
+		sc.Pads = append(sc.Pads, scenePad{Center: p.Position, Angle: p.Angle, Width: p.Width, High: p.Thickness, Compression: frac, Load: p.Force})
+	}
+	sc.Ballast = nil
+	if s.HasBallast && r.Ballast != nil {
+		b, mb := s.Ballast, r.Ballast
+		lp := pose(mb.Link)
+		at := func(x float64) models.Vec2 {
+			return lp.Apply(models.Vec2{X: mb.Origin.X + mb.Axis.X*x, Y: mb.Origin.Y + mb.Axis.Y*x})
+		}
+		sc.Ballast = &sceneBallast{Center: b.Position, Angle: b.Angle, Size: b.Size, RailA: at(mb.Min), RailB: at(mb.Max)}
+	}
+	sc.IMUs = sc.IMUs[:0]
+	for _, m := range s.IMUs {
+		sc.IMUs = append(sc.IMUs, sceneIMU{At: m.Position, Angle: m.Angle, Name: m.Name})
+	}
+	sc.COM, sc.HasCOM = s.COM, true
+	sc.COP, sc.HasCOP = s.COP, s.InContact
+	sc.Support, sc.HasSup = [2]float64{s.SupportMin, s.SupportMax}, s.InContact
+}

@@ -1,0 +1,202 @@
+package ui
+
+import (
+	"fmt"
+	"image"
+	"math"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/widget"
+	"git.sr.ht/~sbinet/gg"
+
+	"teeter/models"
+	"teeter/sim"
+)
+
+// shoveScale is the impulse per metre of world distance dragged: a drag of
+// 10 cm gives 1 N*s.
+const shoveScale = 10.0 // N*s per m
+
+// robotView draws the robot to scale and turns a drag on a link into a
+// shove: press on the link, drag, release; an arrow shows the impulse.
+// Dragging on empty space pans; the scroll wheel zooms.
+type robotView struct {
+	widget.BaseWidget
+	raster *canvas.Raster
+	img    *image.RGBA
+	dc     *gg.Context
+
+	sc    *scene
+	fitSc *scene // the scene the view was fitted to: the view stays put as the robot moves
+	v     view
+	zoom  float64     // times the fitted scale
+	pan   models.Vec2 // world offset of the view centre from the fitted one
+
+	// A drag in progress.
+	dragging  bool
+	dragLink  int
+	dragStart models.Vec2 // world
+	dragNow   models.Vec2 // world
+
+	onShove func(sim.Shove)
+}
+
+func newRobotView(onShove func(sim.Shove)) *robotView {
+	rv := &robotView{zoom: 1, onShove: onShove, dragLink: -1}
+	rv.raster = canvas.NewRaster(rv.render)
+	rv.ExtendBaseWidget(rv)
+	return rv
+}
+
+func (rv *robotView) CreateRenderer() fyne.WidgetRenderer {
+	return widget.NewSimpleRenderer(rv.raster)
+}
+
+func (rv *robotView) MinSize() fyne.Size { return fyne.NewSize(320, 260) }
+
+// setScene replaces what is drawn and redraws.
+func (rv *robotView) setScene(sc *scene) {
+	rv.sc = sc
+	if rv.fitSc == nil {
+		rv.fitSc = sc
+	}
+	rv.raster.Refresh()
+}
+
+// currentView is the view for an image of w x h pixels.
+func (rv *robotView) currentView(w, h int) view {
+	if rv.sc == nil {
+		return view{Scale: 100, W: w, H: h}
+	}
+	v := fitView(rv.fitSc, w, h)
+	v.Scale *= rv.zoom
+	v.Center.X += rv.pan.X
+	v.Center.Y += rv.pan.Y
+	return v
+}
+
+// render draws the scene into an image of the raster's pixel size; the
+// image is kept and reused while the size stays the same.
+func (rv *robotView) render(w, h int) image.Image {
+	if w <= 0 || h <= 0 {
+		w, h = 1, 1
+	}
+	if rv.img == nil || rv.img.Bounds().Dx() != w || rv.img.Bounds().Dy() != h {
+		rv.img = image.NewRGBA(image.Rect(0, 0, w, h))
+		rv.dc = gg.NewContextForRGBA(rv.img)
+	}
+	rv.v = rv.currentView(w, h)
+	if rv.sc == nil {
+		rv.dc.SetColor(colBackground)
+		rv.dc.Clear()
+		return rv.img
+	}
+	drawScene(rv.dc, rv.sc, rv.v)
+	if rv.dragging && rv.dragLink >= 0 {
+		rv.drawShoveArrow()
+	}
+	return rv.img
+}
+
+// pixelScale converts widget coordinates (fyne units) to raster pixels.
+func (rv *robotView) pixelScale() float64 {
+	size := rv.Size()
+	if size.Width <= 0 || rv.v.W == 0 {
+		return 1
+	}
+	return float64(rv.v.W) / float64(size.Width)
+}
+
+func (rv *robotView) toWorld(p fyne.Position) models.Vec2 {
+	s := rv.pixelScale()
+	v := rv.v
+	if v.W == 0 {
+		size := rv.Size()
+		v = rv.currentView(int(size.Width), int(size.Height))
+	}
+	return v.toWorld(float64(p.X)*s, float64(p.Y)*s)
+}
+
+func (rv *robotView) impulse() models.Vec2 {
+	return models.Vec2{X: (rv.dragNow.X - rv.dragStart.X) * shoveScale, Y: (rv.dragNow.Y - rv.dragStart.Y) * shoveScale}
+}
+
+func (rv *robotView) drawShoveArrow() {
+	dc := rv.dc
+	ax, ay := rv.v.toPixel(rv.dragStart)
+	bx, by := rv.v.toPixel(rv.dragNow)
+	dc.SetColor(colShove)
+	dc.SetLineWidth(3)
+	dc.DrawLine(ax, ay, bx, by)
+	dc.Stroke()
+	ang := math.Atan2(by-ay, bx-ax)
+	const head = 12
+	dc.MoveTo(bx, by)
+	dc.LineTo(bx-head*math.Cos(ang-0.4), by-head*math.Sin(ang-0.4))
+	dc.LineTo(bx-head*math.Cos(ang+0.4), by-head*math.Sin(ang+0.4))
+	dc.ClosePath()
+	dc.Fill()
+	j := rv.impulse()
+	dc.DrawStringAnchored(fmt.Sprintf("%.2f N*s", math.Hypot(j.X, j.Y)), bx+8, by-8, 0, 0)
+}
+
+// Dragged follows a drag. Each event carries the pointer position and the
+// move since the previous event, so the press point is the first event's
+// position less its move.
+func (rv *robotView) Dragged(e *fyne.DragEvent) {
+	now := rv.toWorld(e.Position)
+	if !rv.dragging {
+		rv.dragging = true
+		start := rv.toWorld(fyne.NewPos(e.Position.X-e.Dragged.DX, e.Position.Y-e.Dragged.DY))
+		rv.dragStart = start
+		rv.dragLink = -1
+		if rv.sc != nil {
+			rv.dragLink = hitLink(rv.sc, start, 4/math.Max(rv.v.Scale, 1e-9))
+		}
+	}
+	if rv.dragLink < 0 {
+		// Pan: move the world with the pointer.
+		prev := rv.toWorld(fyne.NewPos(e.Position.X-e.Dragged.DX, e.Position.Y-e.Dragged.DY))
+		rv.pan.X -= now.X - prev.X
+		rv.pan.Y -= now.Y - prev.Y
+	}
+	rv.dragNow = now
+	rv.raster.Refresh()
+}
+
+// DragEnd gives the shove drawn by the drag.
+func (rv *robotView) DragEnd() {
+	if rv.dragging && rv.dragLink >= 0 && rv.sc != nil && rv.onShove != nil {
+		l := rv.sc.Links[rv.dragLink]
+		// The point in the link's frame: the plant applies it there.
+		s, c := math.Sincos(-l.Pose.Angle)
+		dx, dy := rv.dragStart.X-l.Pose.Position.X, rv.dragStart.Y-l.Pose.Position.Y
+		local := models.Vec2{X: c*dx - s*dy, Y: s*dx + c*dy}
+		j := rv.impulse()
+		if math.Hypot(j.X, j.Y) > 1e-6 {
+			rv.onShove(sim.Shove{Link: l.Name, Point: &local, Impulse: j})
+		}
+	}
+	rv.dragging = false
+	rv.dragLink = -1
+	rv.raster.Refresh()
+}
+
+// Scrolled zooms about the view centre.
+func (rv *robotView) Scrolled(e *fyne.ScrollEvent) {
+	f := math.Pow(1.1, float64(e.Scrolled.DY)/10)
+	rv.zoomBy(f)
+}
+
+func (rv *robotView) zoomBy(f float64) {
+	rv.zoom = math.Max(0.2, math.Min(20, rv.zoom*f))
+	rv.raster.Refresh()
+}
+
+// resetView returns to the fitted view.
+func (rv *robotView) resetView() {
+	rv.zoom, rv.pan = 1, models.Vec2{}
+	rv.fitSc = rv.sc
+	rv.raster.Refresh()
+}

@@ -1,0 +1,482 @@
+package ui
+
+import (
+	"image/color"
+	"math"
+
+	"git.sr.ht/~sbinet/gg"
+
+	"teeter/models"
+)
+
+// scene is one picture of the robot in world coordinates (metres, y up):
+// what the robot view draws, filled from the model and the plant's snapshot.
+type scene struct {
+	Links                         []sceneLink
+	Joints                        []models.Vec2
+	Actuators                     []sceneActuator
+	Pads                          []scenePad
+	Ballast                       *sceneBallast
+	IMUs                          []sceneIMU
+	COM                           models.Vec2
+	HasCOM                        bool
+	COP                           float64 // x of the centre of pressure on the ground
+	HasCOP                        bool
+	Support                       [2]float64 // x range of the support region on the ground
+	HasSup                        bool
+	GroundTilt, StepX, StepHeight float64
+}
+
+type sceneLink struct {
+	Name  string
+	Pose  models.Pose
+	Shape models.Shape
+	Root  bool
+}
+
+type sceneActuator struct {
+	Name     string
+	From, To models.Vec2 // world points; equal for a rotary actuator drawn at a joint
+	Rotary   bool
+	// Gap is where the output sits within the free play, -1..1 (the two
+	// edges); AtEdge says the output is against one, driving.
+	Gap    float64
+	AtEdge bool
+	HasGap bool
+}
+
+type scenePad struct {
+	Center      models.Vec2 // world, of the pad at its current compression
+	Angle       float64
+	Width, High float64
+	Compression float64 // fraction of the free travel used, 0..1
+	Load        float64 // N
+}
+
+type sceneBallast struct {
+	Center models.Vec2
+	Angle  float64
+	Size   float64
+	// Slide ends in world coordinates, to draw the rail.
+	RailA, RailB models.Vec2
+}
+
+type sceneIMU struct {
+	At    models.Vec2
+	Angle float64
+	Name  string
+}
+
+// view maps world metres to pixels: Scale pixels per metre, Center the
+// world point drawn at the middle of the image.
+type view struct {
+	Scale  float64
+	Center models.Vec2
+	W, H   int
+}
+
+func (v view) toPixel(p models.Vec2) (float64, float64) {
+	return float64(v.W)/2 + (p.X-v.Center.X)*v.Scale, float64(v.H)/2 - (p.Y-v.Center.Y)*v.Scale
+}
+
+func (v view) toWorld(x, y float64) models.Vec2 {
+	return models.Vec2{X: v.Center.X + (x-float64(v.W)/2)/v.Scale, Y: v.Center.Y - (y-float64(v.H)/2)/v.Scale}
+}
+
+// Colours of the robot view, chosen for contrast on a light background.
+var (
+	colBackground = color.RGBA{0xf4, 0xf2, 0xec, 0xff}
+	colGround     = color.RGBA{0x8a, 0x7f, 0x6c, 0xff}
+	colGroundLine = color.RGBA{0x4a, 0x42, 0x36, 0xff}
+	colTorso      = color.RGBA{0x2f, 0x6d, 0x9e, 0xff}
+	colLimb       = color.RGBA{0x7d, 0xa4, 0xc4, 0xff}
+	colOutline    = color.RGBA{0x1c, 0x2b, 0x38, 0xff}
+	colJoint      = color.RGBA{0xf4, 0xf2, 0xec, 0xff}
+	colActuator   = color.RGBA{0x3c, 0x3c, 0x3c, 0xff}
+	colSlack      = color.RGBA{0xe0, 0x9f, 0x1f, 0xff}
+	colSlackEdge  = color.RGBA{0xc0, 0x39, 0x2b, 0xff}
+	colPad        = color.RGBA{0x55, 0x55, 0x55, 0xff}
+	colPadLoad    = color.RGBA{0x2e, 0x8b, 0x57, 0xff}
+	colBallast    = color.RGBA{0x6b, 0x4c, 0x9a, 0xff}
+	colIMU        = color.RGBA{0xd3, 0x54, 0x00, 0xff}
+	colCOM        = color.RGBA{0x11, 0x11, 0x11, 0xff}
+	colCOP        = color.RGBA{0x2e, 0x8b, 0x57, 0xff}
+	colSupport    = color.RGBA{0x2e, 0x8b, 0x57, 0x60}
+	colShove      = color.RGBA{0xc0, 0x39, 0x2b, 0xff}
+)
+
+// drawScene paints the scene into img (which must be w x h of v).
+func drawScene(dc *gg.Context, sc *scene, v view) {
+	dc.SetColor(colBackground)
+	dc.Clear()
+	drawGround(dc, sc, v)
+	if sc.HasSup {
+		x0, y0 := v.toPixel(models.Vec2{X: sc.Support[0], Y: groundY(sc, sc.Support[0])})
+		x1, _ := v.toPixel(models.Vec2{X: sc.Support[1], Y: groundY(sc, sc.Support[1])})
+		dc.SetColor(colSupport)
+		dc.DrawRectangle(x0, y0-4, math.Max(x1-x0, 1), 8)
+		dc.Fill()
+	}
+	for _, l := range sc.Links {
+		if !l.Root {
+			drawLink(dc, l, v, colLimb)
+		}
+	}
+	for _, l := range sc.Links {
+		if l.Root {
+			drawLink(dc, l, v, colTorso)
+		}
+	}
+	for _, p := range sc.Pads {
+		drawPad(dc, p, v)
+	}
+	if b := sc.Ballast; b != nil {
+		ax, ay := v.toPixel(b.RailA)
+		bx, by := v.toPixel(b.RailB)
+		dc.SetColor(colOutline)
+		dc.SetLineWidth(2)
+		dc.DrawLine(ax, ay, bx, by)
+		dc.Stroke()
+		drawBox(dc, b.Center, b.Angle, b.Size, b.Size, v, colBallast)
+	}
+	for _, a := range sc.Actuators {
+		drawActuator(dc, a, v)
+	}
+	for _, j := range sc.Joints {
+		x, y := v.toPixel(j)
+		r := math.Max(2.5, 0.012*v.Scale)
+		dc.DrawCircle(x, y, r)
+		dc.SetColor(colJoint)
+		dc.FillPreserve()
+		dc.SetColor(colOutline)
+		dc.SetLineWidth(1.5)
+		dc.Stroke()
+	}
+	for _, m := range sc.IMUs {
+		x, y := v.toPixel(m.At)
+		s := math.Max(3, 0.012*v.Scale)
+		dc.Push()
+		dc.Translate(x, y)
+		dc.Rotate(-m.Angle)
+		dc.DrawRectangle(-s, -s, 2*s, 2*s)
+		dc.SetColor(colIMU)
+		dc.Fill()
+		dc.SetColor(colJoint)
+		dc.SetLineWidth(1.2)
+		dc.DrawLine(0, s*0.6, 0, -s*0.6) // the sensor's up axis
+		dc.Stroke()
+		dc.Pop()
+	}
+	if sc.HasCOM {
+		drawCOM(dc, sc, v)
+	}
+	if sc.HasCOP {
+		x, y := v.toPixel(models.Vec2{X: sc.COP, Y: groundY(sc, sc.COP)})
+		dc.SetColor(colCOP)
+		dc.MoveTo(x, y-1)
+		dc.LineTo(x-6, y+9)
+		dc.LineTo(x+6, y+9)
+		dc.ClosePath()
+		dc.Fill()
+	}
+}
+
+func groundY(sc *scene, x float64) float64 {
+	y := x * math.Tan(sc.GroundTilt)
+	if sc.StepHeight != 0 && x >= sc.StepX {
+		y += sc.StepHeight
+	}
+	return y
+}
+
+func drawGround(dc *gg.Context, sc *scene, v view) {
+	left := v.toWorld(0, 0).X
+	right := v.toWorld(float64(v.W), 0).X
+	xs := []float64{left}
+	if sc.StepHeight != 0 && sc.StepX > left && sc.StepX < right {
+		xs = append(xs, sc.StepX, sc.StepX)
+	}
+	xs = append(xs, right)
+	for i, x := range xs {
+		y := groundY(sc, x)
+		if i == 1 && len(xs) == 4 {
+			y = groundY(sc, x) - sc.StepHeight // foot of the riser
+		}
+		px, py := v.toPixel(models.Vec2{X: x, Y: y})
+		if i == 0 {
+			dc.MoveTo(px, py)
+		} else {
+			dc.LineTo(px, py)
+		}
+	}
+	dc.LineTo(float64(v.W), float64(v.H))
+	dc.LineTo(0, float64(v.H))
+	dc.ClosePath()
+	dc.SetColor(colGround)
+	dc.FillPreserve()
+	dc.SetColor(colGroundLine)
+	dc.SetLineWidth(2)
+	dc.Stroke()
+}
+
+func drawLink(dc *gg.Context, l sceneLink, v view, fill color.Color) {
+	s := l.Shape
+	switch s.Kind {
+	case models.Circle:
+		c := l.Pose.Apply(s.Center)
+		x, y := v.toPixel(c)
+		dc.DrawCircle(x, y, s.Radius*v.Scale)
+	case models.Capsule:
+		a := l.Pose.Apply(models.Vec2{X: s.Center.X, Y: s.Center.Y - s.Length/2})
+		b := l.Pose.Apply(models.Vec2{X: s.Center.X, Y: s.Center.Y + s.Length/2})
+		ax, ay := v.toPixel(a)
+		bx, by := v.toPixel(b)
+		r := s.Radius * v.Scale
+		ang := math.Atan2(by-ay, bx-ax)
+		dc.NewSubPath()
+		dc.DrawArc(bx, by, r, ang-math.Pi/2, ang+math.Pi/2)
+		dc.DrawArc(ax, ay, r, ang+math.Pi/2, ang+3*math.Pi/2)
+		dc.ClosePath()
+	default:
+		c := l.Pose.Apply(s.Center)
+		dc.Push()
+		x, y := v.toPixel(c)
+		dc.Translate(x, y)
+		dc.Rotate(-l.Pose.Angle)
+		w, h := s.Width*v.Scale, s.Height*v.Scale
+		dc.DrawRoundedRectangle(-w/2, -h/2, w, h, math.Min(4, math.Min(w, h)/4))
+		dc.Pop()
+	}
+	dc.SetColor(fill)
+	dc.FillPreserve()
+	dc.SetColor(colOutline)
+	dc.SetLineWidth(1.5)
+	dc.Stroke()
+}
+
+func drawBox(dc *gg.Context, c models.Vec2, angle, w, h float64, v view, fill color.Color) {
+	x, y := v.toPixel(c)
+	dc.Push()
+	dc.Translate(x, y)
+	dc.Rotate(-angle)
+	dc.DrawRectangle(-w*v.Scale/2, -h*v.Scale/2, w*v.Scale, h*v.Scale)
+	dc.Pop()
+	dc.SetColor(fill)
+	dc.FillPreserve()
+	dc.SetColor(colOutline)
+	dc.SetLineWidth(1)
+	dc.Stroke()
+}
+
+func drawPad(dc *gg.Context, p scenePad, v view) {
+	// Green deepens with compression, so a loaded pad stands out.
+	f := math.Max(0, math.Min(1, p.Compression))
+	fill := mix(colPad, colPadLoad, f)
+	drawBox(dc, p.Center, p.Angle, p.Width, math.Max(p.High, 2/v.Scale), v, fill)
+}
+
+func mix(a, b color.RGBA, f float64) color.RGBA {
+	m := func(x, y uint8) uint8 { return uint8(float64(x)*(1-f) + float64(y)*f + 0.5) }
+	return color.RGBA{m(a.R, b.R), m(a.G, b.G), m(a.B, b.B), 0xff}
+}
+
+// drawActuator draws a linear actuator as a rod between its attachment
+// points, with a sleeve at the middle whose marker shows where the output
+// sits in the free play; a rotary one as a ring at its joint with the same
+// marker on an arc.
+func drawActuator(dc *gg.Context, a sceneActuator, v view) {
+	ax, ay := v.toPixel(a.From)
+	bx, by := v.toPixel(a.To)
+	mark := colSlack
+	if a.AtEdge {
+		mark = colSlackEdge
+	}
+	if a.Rotary {
+		r := math.Max(6, 0.03*v.Scale)
+		dc.SetColor(colActuator)
+		dc.SetLineWidth(2)
+		dc.DrawCircle(ax, ay, r)
+		dc.Stroke()
+		if a.HasGap {
+			ang := -math.Pi/2 + a.Gap*math.Pi/4
+			dc.SetColor(mark)
+			dc.SetLineWidth(3)
+			dc.DrawArc(ax, ay, r, -math.Pi/2-math.Pi/4, -math.Pi/2+math.Pi/4)
+			dc.Stroke()
+			dc.DrawCircle(ax+r*math.Cos(ang), ay+r*math.Sin(ang), 3.5)
+			dc.Fill()
+		}
+		return
+	}
+	dc.SetColor(colActuator)
+	dc.SetLineWidth(math.Max(2, 0.008*v.Scale))
+	dc.DrawLine(ax, ay, bx, by)
+	dc.Stroke()
+	if !a.HasGap {
+		return
+	}
+	// The sleeve: a window along the rod, the output's marker inside it.
+	mx, my := (ax+bx)/2, (ay+by)/2
+	dx, dy := bx-ax, by-ay
+	l := math.Hypot(dx, dy)
+	if l < 1 {
+		return
+	}
+	ux, uy := dx/l, dy/l
+	half := math.Min(l/4, math.Max(7, 0.02*v.Scale))
+	dc.SetColor(mark)
+	dc.SetLineWidth(5)
+	dc.DrawLine(mx-ux*half, my-uy*half, mx+ux*half, my+uy*half)
+	dc.Stroke()
+	px, py := mx+ux*half*a.Gap, my+uy*half*a.Gap
+	dc.SetColor(colOutline)
+	dc.SetLineWidth(2.5)
+	dc.DrawLine(px-uy*5, py+ux*5, px+uy*5, py-ux*5)
+	dc.Stroke()
+}
+
+func drawCOM(dc *gg.Context, sc *scene, v view) {
+	x, y := v.toPixel(sc.COM)
+	gy := groundY(sc, sc.COM.X)
+	_, py := v.toPixel(models.Vec2{X: sc.COM.X, Y: gy})
+	dc.SetColor(colCOM)
+	dc.SetLineWidth(1)
+	dc.SetDash(4, 3)
+	dc.DrawLine(x, y, x, py)
+	dc.Stroke()
+	dc.SetDash()
+	// The usual quartered disc of a centre of mass (common practice).
+	r := 6.0
+	dc.SetColor(color.White)
+	dc.DrawCircle(x, y, r)
+	dc.Fill()
+	dc.SetColor(colCOM)
+	dc.MoveTo(x, y)
+	dc.DrawArc(x, y, r, 0, math.Pi/2)
+	dc.ClosePath()
+	dc.Fill()
+	dc.MoveTo(x, y)
+	dc.DrawArc(x, y, r, math.Pi, 3*math.Pi/2)
+	dc.ClosePath()
+	dc.Fill()
+	dc.DrawCircle(x, y, r)
+	dc.SetLineWidth(1.2)
+	dc.Stroke()
+	// Its projection on the ground.
+	dc.DrawLine(x-5, py, x+5, py)
+	dc.SetLineWidth(2)
+	dc.Stroke()
+}
+
+// sceneFromPoses draws the robot as the model places it, for a robot that
+// has no plant snapshot yet.
+func sceneFromPoses(r *models.Robot, poses map[string]models.Pose) *scene {
+	sc := &scene{GroundTilt: r.Ground.Tilt, StepX: r.Ground.StepX, StepHeight: r.Ground.StepHeight}
+	for _, l := range r.Links {
+		sc.Links = append(sc.Links, sceneLink{Name: l.Name, Pose: poses[l.Name], Shape: l.Shape, Root: l.Name == r.Root})
+	}
+	for _, j := range r.Joints {
+		sc.Joints = append(sc.Joints, poses[j.Parent].Apply(j.ParentAnchor))
+	}
+	for _, a := range r.Actuators {
+		switch {
+		case a.From != nil && a.To != nil:
+			sc.Actuators = append(sc.Actuators, sceneActuator{Name: a.Name,
+				From: poses[a.From.Link].Apply(a.From.Point), To: poses[a.To.Link].Apply(a.To.Point), HasGap: a.Backlash > 0})
+		case a.Joint != "":
+			if j := r.Joint(a.Joint); j != nil && j.Kind == models.Revolute {
+				p := poses[j.Parent].Apply(j.ParentAnchor)
+				sc.Actuators = append(sc.Actuators, sceneActuator{Name: a.Name, From: p, To: p, Rotary: true, HasGap: a.Backlash > 0})
+			}
+		}
+	}
+	for _, f := range r.Feet {
+		fp := poses[f.Link]
+		for _, p := range f.Pads {
+			sc.Pads = append(sc.Pads, scenePad{Center: fp.Apply(p.Position), Angle: fp.Angle, Width: p.Width, High: p.Thickness})
+		}
+	}
+	if b := r.Ballast; b != nil {
+		lp := poses[b.Link]
+		at := func(s float64) models.Vec2 {
+			return lp.Apply(models.Vec2{X: b.Origin.X + b.Axis.X*s, Y: b.Origin.Y + b.Axis.Y*s})
+		}
+		sc.Ballast = &sceneBallast{Center: at(b.Position), Angle: lp.Angle, Size: b.Size, RailA: at(b.Min), RailB: at(b.Max)}
+	}
+	for _, s := range r.Sensors {
+		if s.Kind == models.IMU {
+			lp := poses[s.Link]
+			l := r.Link(s.Link)
+			c := models.Vec2{}
+			if l != nil {
+				c = l.CenterOfMass()
+			}
+			sc.IMUs = append(sc.IMUs, sceneIMU{At: lp.Apply(c), Angle: lp.Angle, Name: s.Name})
+		}
+	}
+	var m, mx, my float64
+	for _, l := range r.Links {
+		c := poses[l.Name].Apply(l.CenterOfMass())
+		m += l.Mass
+		mx += l.Mass * c.X
+		my += l.Mass * c.Y
+	}
+	if m > 0 {
+		sc.COM, sc.HasCOM = models.Vec2{X: mx / m, Y: my / m}, true
+	}
+	return sc
+}
+
+// fitView frames the scene: the ground near the bottom, the robot's height
+// filling most of the image.
+func fitView(sc *scene, w, h int) view {
+	top, lo, hi := 0.5, math.Inf(1), math.Inf(-1)
+	for _, l := range sc.Links {
+		p := l.Pose.Position
+		top = math.Max(top, p.Y+0.2)
+		lo, hi = math.Min(lo, p.X), math.Max(hi, p.X)
+	}
+	if math.IsInf(lo, 0) {
+		lo, hi = 0, 0
+	}
+	height := top * 1.25
+	scale := float64(h) / height
+	if width := (hi - lo + 1.0); width*scale > float64(w) {
+		scale = float64(w) / width
+	}
+	cx := (lo + hi) / 2
+	// Ground at 12% from the bottom.
+	cy := float64(h)/scale/2 - 0.12*float64(h)/scale
+	return view{Scale: scale, Center: models.Vec2{X: cx, Y: cy}, W: w, H: h}
+}
+
+// hitLink returns the index of the link under world point p, or -1.
+func hitLink(sc *scene, p models.Vec2, slack float64) int {
+	best, bestD := -1, slack
+	for i, l := range sc.Links {
+		d := distToShape(l, p)
+		if d <= bestD {
+			best, bestD = i, d
+		}
+	}
+	return best
+}
+
+// distToShape is the distance from p to link l's shape, 0 inside.
+func distToShape(l sceneLink, p models.Vec2) float64 {
+	// Into the link frame.
+	s, c := math.Sincos(-l.Pose.Angle)
+	dx, dy := p.X-l.Pose.Position.X, p.Y-l.Pose.Position.Y
+	q := models.Vec2{X: c*dx - s*dy - l.Shape.Center.X, Y: s*dx + c*dy - l.Shape.Center.Y}
+	switch l.Shape.Kind {
+	case models.Circle:
+		return math.Max(0, math.Hypot(q.X, q.Y)-l.Shape.Radius)
+	case models.Capsule:
+		y := math.Max(-l.Shape.Length/2, math.Min(l.Shape.Length/2, q.Y))
+		return math.Max(0, math.Hypot(q.X, q.Y-y)-l.Shape.Radius)
+	default:
+		ex := math.Max(0, math.Abs(q.X)-l.Shape.Width/2)
+		ey := math.Max(0, math.Abs(q.Y)-l.Shape.Height/2)
+		return math.Hypot(ex, ey)
+	}
+}

@@ -1,0 +1,303 @@
+package ui
+
+import (
+	"fmt"
+	"image"
+	"image/color"
+	"math"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/driver/desktop"
+	"fyne.io/fyne/v2/widget"
+	"git.sr.ht/~sbinet/gg"
+
+	"teeter/sim/live"
+)
+
+// signalMeaning says what a recorded signal is and its unit, from the end of
+// its name, for the legend and the help page.
+var signalMeanings = []struct{ Suffix, Unit, Meaning string }{
+	{".tilt", "rad", "IMU tilt of its link from upright, counter-clockwise positive (fused estimate)"},
+	{".rate", "rad/s", "IMU gyro: angular rate of its link"},
+	{".accel_tilt", "rad", "tilt seen by the IMU's accelerometer: disturbed by linear acceleration"},
+	{".position", "rad or m", "potentiometer reading of a joint or actuator, quantized"},
+	{".force", "N", "normal force on a foot pad from its load sensor"},
+	{".command", "-1..1", "PWM duty sent to an actuator"},
+	{".gap", "m or rad", "where an actuator's output sits in its backlash"},
+	{".out", "", "output of a controller block, in the unit of its input"},
+	{"com.x", "m", "centre of mass, horizontal position"},
+	{"cop.x", "m", "centre of pressure on the ground"},
+	{"battery", "V", "battery terminal voltage"},
+}
+
+func signalUnit(name string) string {
+	for _, m := range signalMeanings {
+		if strings.HasSuffix(name, m.Suffix) || strings.HasPrefix(name, m.Suffix) {
+			return m.Unit
+		}
+	}
+	return ""
+}
+
+// traceColors are the strip colours, in turn.
+var traceColors = []color.RGBA{
+	{0x2f, 0x6d, 0x9e, 0xff}, {0xc0, 0x39, 0x2b, 0xff}, {0x2e, 0x8b, 0x57, 0xff},
+	{0x8e, 0x44, 0xad, 0xff}, {0xd3, 0x54, 0x00, 0xff}, {0x16, 0xa0, 0x85, 0xff},
+}
+
+var (
+	colPlotBack  = color.RGBA{0xff, 0xff, 0xff, 0xff}
+	colPlotGrid  = color.RGBA{0xe3, 0xe1, 0xdb, 0xff}
+	colPlotText  = color.RGBA{0x33, 0x33, 0x33, 0xff}
+	colReference = color.RGBA{0xb5, 0xb5, 0xb5, 0xff}
+)
+
+// tracesView draws stacked plots of chosen signals over a rolling window,
+// each autoscaled, with the pinned reference run behind, a legend, and a
+// readout of the values under the pointer.
+type tracesView struct {
+	widget.BaseWidget
+	raster *canvas.Raster
+	img    *image.RGBA
+	dc     *gg.Context
+
+	names   []string // every recorded signal
+	shown   []int    // indices of the signals drawn, one strip each
+	window  float64  // s
+	now     float64  // the time at the right edge
+	data    live.Trace
+	ref     live.Trace
+	hasRef  bool
+	pointer float64 // x of the pointer in pixels, or -1
+	cols    []colRange
+}
+
+type colRange struct{ lo, hi float64 }
+
+func newTracesView() *tracesView {
+	tv := &tracesView{window: 10, pointer: -1}
+	tv.raster = canvas.NewRaster(tv.render)
+	tv.ExtendBaseWidget(tv)
+	return tv
+}
+
+func (tv *tracesView) CreateRenderer() fyne.WidgetRenderer {
+	return widget.NewSimpleRenderer(tv.raster)
+}
+
+func (tv *tracesView) MinSize() fyne.Size { return fyne.NewSize(320, 180) }
+
+func (tv *tracesView) MouseIn(e *desktop.MouseEvent) { tv.MouseMoved(e) }
+func (tv *tracesView) MouseMoved(e *desktop.MouseEvent) {
+	size := tv.Size()
+	if size.Width <= 0 || tv.img == nil {
+		return
+	}
+	tv.pointer = float64(e.Position.X) * float64(tv.img.Bounds().Dx()) / float64(size.Width)
+	tv.raster.Refresh()
+}
+func (tv *tracesView) MouseOut() {
+	tv.pointer = -1
+	tv.raster.Refresh()
+}
+
+const plotLeft, plotRight = 8.0, 8.0
+
+func (tv *tracesView) render(w, h int) image.Image {
+	if w <= 0 || h <= 0 {
+		w, h = 1, 1
+	}
+	if tv.img == nil || tv.img.Bounds().Dx() != w || tv.img.Bounds().Dy() != h {
+		tv.img = image.NewRGBA(image.Rect(0, 0, w, h))
+		tv.dc = gg.NewContextForRGBA(tv.img)
+	}
+	tv.draw(tv.dc, w, h)
+	return tv.img
+}
+
+// draw paints every strip into dc.
+func (tv *tracesView) draw(dc *gg.Context, w, h int) {
+	dc.SetColor(colPlotBack)
+	dc.Clear()
+	n := len(tv.shown)
+	if n == 0 {
+		dc.SetColor(colPlotText)
+		dc.DrawStringAnchored("No signals chosen: use Signals to pick some.", float64(w)/2, float64(h)/2, 0.5, 0.5)
+		return
+	}
+	const axis = 16.0
+	stripH := (float64(h) - axis) / float64(n)
+	t1 := tv.now
+	t0 := t1 - tv.window
+	x0, x1 := plotLeft, float64(w)-plotRight
+	tx := func(t float64) float64 { return x0 + (t-t0)/(t1-t0)*(x1-x0) }
+	if cap(tv.cols) < w {
+		tv.cols = make([]colRange, w)
+	}
+	for k := range n {
+		top := float64(k) * stripH
+		bottom := top + stripH - 4
+		lo, hi := math.Inf(1), math.Inf(-1)
+		scan := func(tr *live.Trace) {
+			if k >= len(tr.Values) {
+				return
+			}
+			for i, t := range tr.Time {
+				if t < t0 || t > t1 {
+					continue
+				}
+				v := tr.Values[k][i]
+				lo, hi = math.Min(lo, v), math.Max(hi, v)
+			}
+		}
+		scan(&tv.data)
+		if tv.hasRef {
+			scan(&tv.ref)
+		}
+		if math.IsInf(lo, 0) || math.IsNaN(lo) || math.IsNaN(hi) {
+			lo, hi = -1, 1
+		}
+		if hi-lo < 1e-9 {
+			mid := (hi + lo) / 2
+			span := math.Max(math.Abs(mid)*0.1, 1e-6)
+			lo, hi = mid-span, mid+span
+		}
+		pad := (hi - lo) * 0.08
+		lo, hi = lo-pad, hi+pad
+		ty := func(v float64) float64 { return bottom - (v-lo)/(hi-lo)*(bottom-top-14) }
+		// Strip frame and a zero line when zero is in range.
+		dc.SetColor(colPlotGrid)
+		dc.SetLineWidth(1)
+		dc.DrawLine(x0, bottom+2, x1, bottom+2)
+		dc.Stroke()
+		if lo < 0 && hi > 0 {
+			dc.SetDash(3, 3)
+			dc.DrawLine(x0, ty(0), x1, ty(0))
+			dc.Stroke()
+			dc.SetDash()
+		}
+		col := traceColors[k%len(traceColors)]
+		if tv.hasRef {
+			tv.strokeSeries(dc, &tv.ref, k, tx, ty, colReference, w)
+		}
+		tv.strokeSeries(dc, &tv.data, k, tx, ty, col, w)
+		// Legend: name, unit, latest value and the range shown.
+		name := tv.names[tv.shown[k]]
+		unit := signalUnit(name)
+		label := name
+		if unit != "" {
+			label += " [" + unit + "]"
+		}
+		if m := len(tv.data.Time); m > 0 && k < len(tv.data.Values) {
+			label += fmt.Sprintf("  %.4g", tv.data.Values[k][m-1])
+		}
+		dc.SetColor(col)
+		dc.DrawString(label, x0+2, top+11)
+		dc.SetColor(colPlotText)
+		dc.DrawStringAnchored(fmt.Sprintf("%.3g to %.3g", lo, hi), x1-2, top+11, 1, 0)
+		if tv.pointer >= x0 && tv.pointer <= x1 {
+			t := t0 + (tv.pointer-x0)/(x1-x0)*(t1-t0)
+			if v, ok := valueAt(&tv.data, k, t); ok {
+				dc.SetColor(colPlotText)
+				dc.DrawStringAnchored(fmt.Sprintf("%.4g at %.3f s", v, t), tv.pointer+4, bottom-4, 0, 0)
+			}
+		}
+	}
+	// Time axis.
+	dc.SetColor(colPlotText)
+	step := niceStep(tv.window / 6)
+	for t := math.Ceil(t0/step) * step; t <= t1; t += step {
+		x := tx(t)
+		dc.DrawLine(x, float64(h)-axis, x, float64(h)-axis+3)
+		dc.Stroke()
+		dc.DrawStringAnchored(fmt.Sprintf("%g s", math.Round(t*1000)/1000), x, float64(h)-2, 0.5, 0)
+	}
+	if tv.pointer >= x0 && tv.pointer <= x1 {
+		dc.SetColor(colPlotText)
+		dc.SetDash(2, 2)
+		dc.DrawLine(tv.pointer, 0, tv.pointer, float64(h)-axis)
+		dc.Stroke()
+		dc.SetDash()
+	}
+}
+
+// strokeSeries draws one series, reduced to the least and greatest value in
+// each pixel column so that long windows cost what the width costs.
+func (tv *tracesView) strokeSeries(dc *gg.Context, tr *live.Trace, k int, tx, ty func(float64) float64, col color.Color, w int) {
+	if k >= len(tr.Values) || len(tr.Time) == 0 {
+		return
+	}
+	vals := tr.Values[k]
+	cols := tv.cols[:w]
+	for i := range cols {
+		cols[i] = colRange{math.Inf(1), math.Inf(-1)}
+	}
+	first, last := w, -1
+	for i, t := range tr.Time {
+		x := int(tx(t))
+		if x < 0 || x >= w {
+			continue
+		}
+		v := vals[i]
+		if math.IsNaN(v) {
+			continue
+		}
+		c := &cols[x]
+		c.lo, c.hi = math.Min(c.lo, v), math.Max(c.hi, v)
+		first, last = min(first, x), max(last, x)
+	}
+	if last < 0 {
+		return
+	}
+	dc.SetColor(col)
+	dc.SetLineWidth(1.5)
+	started := false
+	for x := first; x <= last; x++ {
+		c := cols[x]
+		if math.IsInf(c.lo, 0) {
+			continue
+		}
+		if !started {
+			dc.MoveTo(float64(x), ty(c.lo))
+			started = true
+		} else {
+			dc.LineTo(float64(x), ty(c.lo))
+		}
+		if c.hi != c.lo {
+			dc.LineTo(float64(x), ty(c.hi))
+		}
+	}
+	dc.Stroke()
+}
+
+func valueAt(tr *live.Trace, k int, t float64) (float64, bool) {
+	if k >= len(tr.Values) || len(tr.Time) == 0 || t < tr.Time[0] || t > tr.Time[len(tr.Time)-1] {
+		return 0, false
+	}
+	lo, hi := 0, len(tr.Time)-1
+	for lo < hi {
+		mid := (lo + hi) / 2
+		if tr.Time[mid] < t {
+			lo = mid + 1
+		} else {
+			hi = mid
+		}
+	}
+	return tr.Values[k][lo], true
+}
+
+// niceStep rounds a step up to 1, 2 or 5 times a power of ten.
+func niceStep(x float64) float64 {
+	if x <= 0 {
+		return 1
+	}
+	p := math.Pow(10, math.Floor(math.Log10(x)))
+	for _, m := range []float64{1, 2, 5, 10} {
+		if m*p >= x {
+			return m * p
+		}
+	}
+	return 10 * p
+}

@@ -1,0 +1,492 @@
+// Package ui is teeter's desktop window: the robot drawn to scale and
+// shoved with the mouse, live traces, gains and robot parameters tuned while
+// it runs, the controller graph, files and help. The simulation runs in a
+// sim/live runner; the window only reads its snapshots and sends commands.
+package ui
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/layout"
+	"fyne.io/fyne/v2/theme"
+	"fyne.io/fyne/v2/widget"
+
+	"teeter/control"
+	"teeter/models"
+	"teeter/sim"
+	"teeter/sim/live"
+)
+
+// Options say what the window opens with.
+type Options struct {
+	// Model is a robot file or "builtin:NAME" (default "builtin:frontal").
+	Model string
+	// Gains is an optional gain-set file applied at the start.
+	Gains string
+	// Speed is the starting speed: 1 real time (default), 0.1 to 10, or a
+	// negative value for as fast as possible.
+	Speed float64
+	// Run starts the simulation at once instead of paused.
+	Run bool
+}
+
+// runner is the live runner the window drives.
+type runner = live.Runner[sim.Snapshot]
+
+// Window is the main window.
+type Window struct {
+	app fyne.App
+	win fyne.Window
+	run *runner
+
+	robot  *models.Robot // the robot as loaded, before live parameter changes
+	path   string        // the file it came from, for Save ("" for a built-in)
+	spec   *control.Spec
+	params []control.ParamInfo // file values
+	gains  map[string]float64  // current values as set from the window
+	rparam map[string]float64  // robot parameter changes from the window
+	hist   history
+
+	view    *robotView
+	traces  *tracesView
+	scene   scene
+	banner  *fyne.Container
+	bannerT *canvas.Text
+	status  *widget.Label
+	notice  *widget.Label
+	runBtn  *widget.Button
+	speed   *widget.Select
+
+	gainRows  map[string]*gainRow
+	gainBox   *fyne.Container
+	blockBox  *fyne.Container
+	graph     *graphView
+	robotBox  *fyne.Container
+	shoves    *shovePanel
+	studies   *fyne.Container
+	frozen    bool
+	window    float64
+	shown     []string
+	lastVer   uint64
+	lastNames int
+
+	keyShove float64 // N*s of a keyboard shove
+	tickStop chan struct{}
+}
+
+// New opens the robot of opts and builds the window (not yet shown).
+func New(a fyne.App, opts Options) (*Window, error) {
+	return newWindow(a, opts, buildPlant)
+}
+
+func newWindow(a fyne.App, opts Options, build live.Build[sim.Snapshot]) (*Window, error) {
+	if opts.Model == "" {
+		opts.Model = "builtin:frontal"
+	}
+	robot, err := models.Load(opts.Model)
+	if err != nil {
+		return nil, err
+	}
+	spec, err := loadSpec(robot)
+	if err != nil {
+		return nil, err
+	}
+	run, err := live.New(live.Config[sim.Snapshot]{Robot: robot.Clone(), Build: build, TraceSeconds: 60})
+	if err != nil {
+		return nil, err
+	}
+	w := &Window{app: a, run: run, keyShove: 2, window: 10}
+	w.win = a.NewWindow("teeter")
+	w.build()
+	w.setModel(robot, opts.Model, spec)
+	if opts.Gains != "" {
+		if err := w.LoadGains(opts.Gains); err != nil {
+			run.Close()
+			return nil, err
+		}
+	}
+	speed := opts.Speed
+	if speed == 0 {
+		speed = 1
+	}
+	if speed < 0 {
+		speed = 0
+	}
+	if err := <-run.SetSpeed(speed); err != nil {
+		run.Close()
+		return nil, err
+	}
+	w.showSpeed(speed)
+	if opts.Run {
+		<-run.Run()
+	}
+	w.refresh()
+	return w, nil
+}
+
+// Runner gives access to the live runner, for the studies tab and tests.
+func (w *Window) Runner() *live.Runner[sim.Snapshot] { return w.run }
+
+// FyneWindow is the underlying window.
+func (w *Window) FyneWindow() fyne.Window { return w.win }
+
+// SetStudies puts the studies panel into its tab.
+func (w *Window) SetStudies(content fyne.CanvasObject) {
+	w.studies.Objects = []fyne.CanvasObject{content}
+	w.studies.Refresh()
+}
+
+// ShowAndRun shows the window and runs the application until it closes.
+func (w *Window) ShowAndRun() {
+	w.startTicker()
+	w.win.ShowAndRun()
+	w.Close()
+}
+
+// Close stops the simulation.
+func (w *Window) Close() {
+	if w.tickStop != nil {
+		close(w.tickStop)
+		w.tickStop = nil
+	}
+	w.run.Close()
+}
+
+// startTicker redraws at about 30 frames a second when the run changed.
+func (w *Window) startTicker() {
+	w.tickStop = make(chan struct{})
+	stop := w.tickStop
+	go func() {
+		t := time.NewTicker(33 * time.Millisecond)
+		defer t.Stop()
+		for {
+			select {
+			case <-stop:
+				return
+			case <-t.C:
+				fyne.DoAndWait(w.refresh)
+			}
+		}
+	}()
+}
+
+func (w *Window) build() {
+	w.view = newRobotView(w.shove)
+	w.traces = newTracesView()
+	w.bannerT = canvas.NewText("", theme.Color(theme.ColorNameForegroundOnError))
+	w.bannerT.TextStyle.Bold = true
+	w.bannerT.TextSize = theme.TextSize() * 1.3
+	bannerBack := canvas.NewRectangle(colSlackEdge)
+	bannerBack.CornerRadius = 6
+	w.banner = container.NewStack(bannerBack, container.NewPadded(container.NewCenter(w.bannerT)))
+	w.banner.Hide()
+	robotArea := container.NewStack(w.view, container.NewVBox(container.NewPadded(w.banner), layout.NewSpacer()))
+
+	w.status = widget.NewLabel("")
+	w.notice = widget.NewLabel("")
+	w.notice.Importance = widget.WarningImportance
+	w.runBtn = widget.NewButtonWithIcon("Run", theme.MediaPlayIcon(), w.toggleRun)
+	stepBtn := widget.NewButtonWithIcon("Step", theme.MediaSkipNextIcon(), func() { w.after(w.run.StepOnce()) })
+	resetBtn := widget.NewButtonWithIcon("Reset", theme.MediaReplayIcon(), w.reset)
+	w.speed = widget.NewSelect(speedNames, func(s string) {
+		if v, ok := speedValues[s]; ok {
+			w.after(w.run.SetSpeed(v))
+		}
+	})
+	w.speed.SetSelected("1x")
+	pin := widget.NewButtonWithIcon("Pin reference", theme.ContentCopyIcon(), func() { w.run.PinReference(); w.lastVer = 0 })
+	unpin := widget.NewButton("Clear reference", func() { w.run.ClearReference(); w.lastVer = 0 })
+	freeze := widget.NewCheck("Freeze plots", func(on bool) { w.frozen = on; w.lastVer = 0 })
+	windowSel := widget.NewSelect([]string{"5 s", "10 s", "30 s"}, func(s string) {
+		w.window = map[string]float64{"5 s": 5, "10 s": 10, "30 s": 30}[s]
+		w.traces.window = w.window
+		w.lastVer = 0
+	})
+	windowSel.SetSelected("10 s")
+	signals := widget.NewButtonWithIcon("Signals…", theme.ListIcon(), w.chooseSignals)
+	fit := widget.NewButtonWithIcon("", theme.ZoomFitIcon(), w.view.resetView)
+	zoomIn := widget.NewButtonWithIcon("", theme.ZoomInIcon(), func() { w.view.zoomBy(1.25) })
+	zoomOut := widget.NewButtonWithIcon("", theme.ZoomOutIcon(), func() { w.view.zoomBy(0.8) })
+
+	bar := container.NewHBox(w.runBtn, stepBtn, resetBtn, widget.NewLabel("Speed"), w.speed,
+		widget.NewSeparator(), zoomIn, zoomOut, fit, widget.NewSeparator(), w.status)
+	plotBar := container.NewHBox(signals, windowSel, freeze, pin, unpin)
+	plots := container.NewBorder(plotBar, nil, nil, nil, w.traces)
+	split := container.NewVSplit(robotArea, plots)
+	split.Offset = 0.55
+	left := container.NewBorder(bar, w.notice, nil, nil, split)
+
+	w.gainBox = container.NewVBox()
+	w.blockBox = container.NewVBox()
+	w.graph = newGraphView(w.showBlock)
+	w.robotBox = container.NewVBox()
+	w.shoves = newShovePanel(w)
+	w.studies = container.NewStack(container.NewCenter(widget.NewLabel("Studies (recovery margin, sweeps, tuning) will be here.")))
+	graphScroll := container.NewScroll(container.New(&fixedLayout{g: w.graph}, w.graph.content))
+	graphTab := container.NewVSplit(graphScroll, container.NewVScroll(w.blockBox))
+	tabs := container.NewAppTabs(
+		container.NewTabItem("Gains", container.NewVScroll(w.gainBox)),
+		container.NewTabItem("Robot", container.NewVScroll(w.robotBox)),
+		container.NewTabItem("Shoves", w.shoves.object()),
+		container.NewTabItem("Controller", graphTab),
+		container.NewTabItem("Studies", w.studies),
+		container.NewTabItem("Help", container.NewVScroll(helpContent())),
+	)
+	main := container.NewHSplit(left, tabs)
+	main.Offset = 0.62
+	w.win.SetContent(main)
+	w.win.SetMainMenu(w.menu())
+	w.win.Resize(fyne.NewSize(1280, 800))
+	w.win.Canvas().SetOnTypedKey(w.typedKey)
+	w.win.SetCloseIntercept(func() { w.win.Close() })
+}
+
+var speedNames = []string{"0.1x", "0.25x", "0.5x", "1x", "2x", "fastest"}
+var speedValues = map[string]float64{"0.1x": 0.1, "0.25x": 0.25, "0.5x": 0.5, "1x": 1, "2x": 2, "fastest": 0}
+
+func (w *Window) showSpeed(v float64) {
+	for name, s := range speedValues {
+		if s == v {
+			w.speed.SetSelected(name)
+		}
+	}
+}
+
+// fixedLayout gives the graph's content the size its layout needs.
+type fixedLayout struct{ g *graphView }
+
+func (l *fixedLayout) Layout([]fyne.CanvasObject, fyne.Size) {}
+func (l *fixedLayout) MinSize([]fyne.CanvasObject) fyne.Size {
+	return l.g.minSize()
+}
+
+// after shows a command's error, if any, once the runner has handled it,
+// without making the window wait.
+func (w *Window) after(c <-chan error) {
+	select {
+	case err := <-c:
+		w.showErr(err)
+	default:
+		go func() {
+			if err := <-c; err != nil {
+				fyne.Do(func() { w.showErr(err) })
+			}
+		}()
+	}
+}
+
+func (w *Window) showErr(err error) {
+	if err != nil {
+		w.notice.SetText(err.Error())
+	}
+}
+
+func (w *Window) toggleRun() {
+	if w.run.Status().Running {
+		w.after(w.run.Pause())
+	} else {
+		w.after(w.run.Run())
+	}
+	w.lastVer = 0
+}
+
+func (w *Window) reset() {
+	w.notice.SetText("")
+	w.after(w.run.Reset())
+	w.lastVer = 0
+}
+
+// shove sends a shove from the mouse or keyboard to the runner.
+func (w *Window) shove(s sim.Shove) {
+	w.after(w.run.Shove(s))
+	w.notice.SetText(fmt.Sprintf("Shove on %s: %.2f N*s", s.Link, math.Hypot(s.Impulse.X, s.Impulse.Y)))
+}
+
+// keyboardShove pushes the watched link sideways by the set size.
+func (w *Window) keyboardShove(dir float64) {
+	w.shove(sim.Shove{Link: "", Impulse: models.Vec2{X: dir * w.keyShove}})
+}
+
+func (w *Window) typedKey(e *fyne.KeyEvent) {
+	switch e.Name {
+	case fyne.KeySpace:
+		w.toggleRun()
+	case fyne.KeyPeriod:
+		w.after(w.run.StepOnce())
+	case fyne.KeyR:
+		w.reset()
+	case fyne.KeyLeft:
+		w.keyboardShove(-1)
+	case fyne.KeyRight:
+		w.keyboardShove(1)
+	case fyne.KeyF:
+		w.frozen = !w.frozen
+	case fyne.KeyP:
+		w.run.PinReference()
+	case fyne.KeyEqual, fyne.KeyPlus:
+		w.view.zoomBy(1.25)
+	case fyne.KeyMinus:
+		w.view.zoomBy(0.8)
+	case fyne.Key0:
+		w.view.resetView()
+	}
+}
+
+// setModel installs a newly loaded robot: panels, graph, traces.
+func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
+	w.robot, w.path, w.spec = r, path, spec
+	w.gains, w.rparam = map[string]float64{}, map[string]float64{}
+	w.hist = history{}
+	w.params = nil
+	if spec != nil {
+		if g, err := control.Build(spec, sim.Channels(r), sim.ActuatorNames(r)); err == nil {
+			w.params = g.Params()
+		}
+	}
+	for _, p := range w.params {
+		w.gains[p.Path] = p.Value
+	}
+	w.buildGainRows()
+	w.graph.setSpec(spec)
+	w.blockBox.Objects = []fyne.CanvasObject{widget.NewLabel("Select a block to see its parameters.")}
+	w.blockBox.Refresh()
+	w.buildRobotRows()
+	w.shoves.setRobot(r)
+	w.view.fitSc = nil
+	w.shown = nil
+	w.lastVer = 0
+	title := r.Name
+	if title == "" {
+		title = path
+	}
+	w.win.SetTitle("teeter — " + title)
+}
+
+// refresh redraws what changed since the last call.
+func (w *Window) refresh() {
+	st := w.run.Status()
+	if st.Version == w.lastVer && w.lastVer != 0 {
+		return
+	}
+	w.lastVer = st.Version
+	snap := w.run.Latest()
+	sceneFromSnapshot(&w.scene, w.robot, snap)
+	w.view.setScene(&w.scene)
+
+	names := w.run.SignalNames()
+	if w.shown == nil || len(names) != w.lastNames {
+		w.lastNames = len(names)
+		w.shown = defaultSignals(names)
+	}
+	w.traces.names = names
+	idx := w.traces.shown[:0]
+	for _, s := range w.shown {
+		for i, n := range names {
+			if n == s {
+				idx = append(idx, i)
+			}
+		}
+	}
+	w.traces.shown = idx
+	if !w.frozen {
+		w.run.Recent(&w.traces.data, w.window, idx)
+		w.traces.hasRef = w.run.ReferenceTrace(&w.traces.ref, st.Time-w.window, idx)
+		w.traces.now = math.Max(st.Time, w.window)
+		w.traces.raster.Refresh()
+	}
+
+	state := "paused"
+	if st.Running {
+		state = "running"
+		w.runBtn.SetText("Pause")
+		w.runBtn.SetIcon(theme.MediaPauseIcon())
+	} else {
+		w.runBtn.SetText("Run")
+		w.runBtn.SetIcon(theme.MediaPlayIcon())
+	}
+	speed := ""
+	if st.Running && st.Achieved > 0 {
+		speed = fmt.Sprintf(", %.2gx real time", st.Achieved)
+	}
+	w.status.SetText(fmt.Sprintf("t = %.2f s, %s%s", st.Time, state, speed))
+	switch {
+	case st.Err != nil:
+		w.bannerT.Text = "Simulation stopped: " + st.Err.Error() + " — Reset (R) to start again"
+		w.banner.Show()
+	case st.Fallen:
+		w.bannerT.Text = fmt.Sprintf("Fallen at %.2f s: %s — Reset (R) puts it back", st.FallTime, st.FallReason)
+		w.banner.Show()
+	default:
+		w.banner.Hide()
+	}
+	w.bannerT.Refresh()
+	if st.Notice != "" && st.Restarts > 0 {
+		w.notice.SetText(st.Notice)
+	}
+}
+
+// defaultSignals picks up to six signals to plot at the start: the IMU
+// tilts and rates, then the first commands.
+func defaultSignals(names []string) []string {
+	var out []string
+	add := func(match func(string) bool) {
+		for _, n := range names {
+			if len(out) < 6 && match(n) && !contains(out, n) {
+				out = append(out, n)
+			}
+		}
+	}
+	add(func(n string) bool { return hasSuffix(n, ".tilt") })
+	add(func(n string) bool { return hasSuffix(n, ".rate") })
+	add(func(n string) bool { return hasSuffix(n, ".command") })
+	add(func(string) bool { return true })
+	return out
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+func hasSuffix(s, suf string) bool { return len(s) >= len(suf) && s[len(s)-len(suf):] == suf }
+
+// chooseSignals lets the user pick the plotted signals.
+func (w *Window) chooseSignals() {
+	names := w.run.SignalNames()
+	check := widget.NewCheckGroup(names, nil)
+	check.Selected = append([]string(nil), w.shown...)
+	d := dialog.NewCustomConfirm("Signals to plot", "Show", "Cancel", container.NewVScroll(check), func(ok bool) {
+		if ok {
+			w.shown = check.Selected
+			w.lastNames = len(names)
+			w.lastVer = 0
+		}
+	}, w.win)
+	d.Resize(fyne.NewSize(420, 560))
+	d.Show()
+}
+
+// showError shows a problem report in a dialog; every line is one problem.
+func (w *Window) showError(title string, err error) {
+	text := widget.NewLabel(err.Error())
+	text.Wrapping = fyne.TextWrapWord
+	var ps models.Problems
+	if errors.As(err, &ps) {
+		text.SetText(fmt.Sprintf("%d problem(s):\n%s", len(ps), err.Error()))
+	}
+	scroll := container.NewVScroll(text)
+	scroll.SetMinSize(fyne.NewSize(560, 260))
+	dialog.NewCustom(title, "Close", scroll, w.win).Show()
+	w.notice.SetText(title)
+}
