@@ -1,0 +1,99 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func runTeeter(t *testing.T, args ...string) (int, string, string) {
+	t.Helper()
+	var out, errOut bytes.Buffer
+	code := run(args, &out, &errOut)
+	return code, out.String(), errOut.String()
+}
+
+// The JSON summary carries the fields scripts rely on (the run command's
+// documented interface).
+func TestRunJSONSummary(t *testing.T) {
+	code, out, errOut := runTeeter(t, "run", "--model", "builtin:pendulum", "--duration", "1s", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var sum map[string]any
+	if err := json.Unmarshal([]byte(out), &sum); err != nil {
+		t.Fatalf("output is not one JSON object: %v\n%s", err, out)
+	}
+	for _, key := range []string{"fell", "fall_time_s", "fall_reason", "peak_tilt_deg", "final_tilt_deg", "sim_seconds", "wall_seconds", "realtime_factor"} {
+		if _, ok := sum[key]; !ok {
+			t.Errorf("summary lacks %q", key)
+		}
+	}
+	// 1 s at a 1 kHz physics step is 1000 steps; the summary must say so.
+	if s, _ := sum["sim_seconds"].(float64); s < 0.999 || s > 1.001 {
+		t.Errorf("sim_seconds = %v, want 1", sum["sim_seconds"])
+	}
+}
+
+// Same inputs and seed give the same bytes (determinism is promised in the README).
+func TestRunCSVIsDeterministic(t *testing.T) {
+	dir := t.TempDir()
+	var files [2][]byte
+	for i := range files {
+		path := filepath.Join(dir, "run"+string(rune('a'+i))+".csv")
+		code, _, errOut := runTeeter(t, "run", "--model", "builtin:frontal", "--duration", "0.5s", "--seed", "7",
+			"--shove", "at=0.1s,impulse=1N*s,dir=left", "--csv", path)
+		if code != 0 {
+			t.Fatalf("exit %d: %s", code, errOut)
+		}
+		data, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		files[i] = data
+	}
+	if len(files[0]) == 0 || !bytes.Equal(files[0], files[1]) {
+		t.Fatalf("two runs with the same seed wrote different CSV (%d and %d bytes)", len(files[0]), len(files[1]))
+	}
+}
+
+func TestRunReportsBadModelWithPosition(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "bad.yaml")
+	os.WriteFile(path, []byte("name: x\nplane: frontal\nroot: a\nlinks:\n  - name: a\n    mass: -1 kg\n    shape: {circle: {radius: 1 cm}}\n"), 0o644)
+	code, _, errOut := runTeeter(t, "run", "--model", path)
+	if code != 1 {
+		t.Fatalf("exit %d, want 1", code)
+	}
+	if !strings.Contains(errOut, path+":6:") || !strings.Contains(errOut, "mass") {
+		t.Errorf("error does not point at line 6 and the mass field:\n%s", errOut)
+	}
+}
+
+func TestUsageErrorsExitTwo(t *testing.T) {
+	for _, args := range [][]string{
+		{"run", "--duration", "ten seconds"},
+		{"run", "--shove", "nonsense"},
+		{"run", "--no-such-flag"},
+		{"no-such-command"},
+		{"export", "--format", "pdf"},
+	} {
+		if code, _, _ := runTeeter(t, args...); code != 2 {
+			t.Errorf("teeter %s: exit %d, want 2", strings.Join(args, " "), code)
+		}
+	}
+}
+
+// An export is byte for byte the same each time, so it diffs cleanly in
+// firmware repositories.
+func TestExportIsDeterministic(t *testing.T) {
+	for _, format := range []string{"c-header", "json", "yaml"} {
+		_, a, errA := runTeeter(t, "export", "--format", format)
+		_, b, _ := runTeeter(t, "export", "--format", format)
+		if a == "" || a != b {
+			t.Errorf("%s export differs between two calls or is empty (%s)", format, errA)
+		}
+	}
+}
