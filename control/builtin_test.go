@@ -189,3 +189,19 @@ func TestScrewDirectionsMatchGeometry(t *testing.T) {
 		}
 	}
 }
+
+func BenchmarkFrontalTick(b *testing.B) {
+	channels, actuators := frontalNames()
+	spec, _ := Builtin("frontal")
+	g, err := Build(spec, channels, actuators)
+	if err != nil {
+		b.Fatal(err)
+	}
+	readings := make([]float64, len(channels))
+	commands := make([]float64, len(actuators))
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		g.Tick(float64(i)/200, readings, commands)
+	}
+}
