@@ -1,0 +1,169 @@
+package study
+
+import (
+	"bytes"
+	"context"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func pendulumSweep(workers int, shard Shard) SweepSpec {
+	return SweepSpec{
+		Axes:     []Axis{{Path: "actuators.backlash", From: 0, To: 0.02, Steps: 3}, {Path: "ankle_loop.kp", From: 2, To: 6, Steps: 2}},
+		Metrics:  []string{"peak_tilt", "osc_amplitude", "effort"},
+		Duration: 1,
+		Seed:     7,
+		Workers:  workers,
+		Shard:    shard,
+	}
+}
+
+func csvBytes(t *testing.T, r *SweepResult) []byte {
+	t.Helper()
+	var b bytes.Buffer
+	if err := r.WriteCSV(&b); err != nil {
+		t.Fatal(err)
+	}
+	return b.Bytes()
+}
+
+func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
+	rig, err := LoadRig("builtin:pendulum", "", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	one, err := rig.Sweep(context.Background(), pendulumSweep(1, Shard{}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	two, err := rig.Sweep(context.Background(), pendulumSweep(2, Shard{}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The same simulations must give the same bytes however they were
+	// scheduled (the sweep's own promise: seeded per point, grid order).
+	a, b := csvBytes(t, one), csvBytes(t, two)
+	if !bytes.Equal(a, b) {
+		t.Fatalf("1 worker and 2 workers differ:\n%s\n%s", a, b)
+	}
+	if len(one.Points) != 6 || one.Total != 6 {
+		t.Fatalf("got %d of %d points, want 6", len(one.Points), one.Total)
+	}
+	// The points differ from each other: the parameters reached the runs.
+	if one.Points[0].Metrics[2] == one.Points[1].Metrics[2] && one.Points[0].Metrics[2] == one.Points[4].Metrics[2] {
+		t.Errorf("effort did not change with kp or backlash: %v", one.Points)
+	}
+	s0, err := rig.Sweep(context.Background(), pendulumSweep(2, Shard{0, 2}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	s1, err := rig.Sweep(context.Background(), pendulumSweep(2, Shard{1, 2}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(s0.Points) != 3 || len(s1.Points) != 3 {
+		t.Fatalf("shards have %d and %d points, want 3 each", len(s0.Points), len(s1.Points))
+	}
+	// Through the files, as a job array would do it.
+	dir := t.TempDir()
+	var parts []*SweepResult
+	for i, s := range []*SweepResult{s1, s0} {
+		name := filepath.Join(dir, "shard"+string(rune('0'+i))+".csv")
+		if err := os.WriteFile(name, csvBytes(t, s), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		f, err := os.Open(name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		r, err := ReadSweepCSV(name, f)
+		f.Close()
+		if err != nil {
+			t.Fatal(err)
+		}
+		parts = append(parts, r)
+	}
+	merged, missing, err := MergeSweeps(parts...)
+	if err != nil || len(missing) > 0 {
+		t.Fatalf("merge: %v, missing %v", err, missing)
+	}
+	if m := csvBytes(t, merged); !bytes.Equal(m, a) {
+		t.Fatalf("merged shards differ from the whole sweep:\n%s\n%s", m, a)
+	}
+	if _, missing, _ := MergeSweeps(parts[0]); len(missing) != 3 {
+		t.Errorf("one shard alone: missing %v, want 3 points", missing)
+	}
+	for _, ext := range []string{".png", ".svg"} {
+		file := filepath.Join(dir, "heat"+ext)
+		if err := PlotSweep(merged, "osc_amplitude", file); err != nil {
+			t.Fatal(err)
+		}
+		if st, err := os.Stat(file); err != nil || st.Size() < 100 {
+			t.Errorf("plot %s: %v", file, err)
+		}
+	}
+}
+
+func TestSweepFailedPointAndCancel(t *testing.T) {
+	rig, err := LoadRig("builtin:pendulum", "", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// A negative backlash is refused by the model: that point fails, the
+	// others run.
+	spec := SweepSpec{Axes: []Axis{{Path: "actuators.backlash", From: -0.01, To: 0.01, Steps: 3}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 2}
+	res, err := rig.Sweep(context.Background(), spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Points) != 3 || res.Points[0].Err == "" || res.Points[1].Err != "" || res.Points[2].Err != "" {
+		t.Fatalf("want point 0 failed and 1, 2 fine: %+v", res.Points)
+	}
+	text := string(csvBytes(t, res))
+	if !strings.Contains(text, ",failed,") {
+		t.Errorf("the CSV does not mark the failed point:\n%s", text)
+	}
+	// Cancel after the first point: what is done is kept and still reads.
+	ctx, cancel := context.WithCancel(context.Background())
+	spec = SweepSpec{Axes: []Axis{{Path: "actuators.backlash", From: 0, To: 0.01, Steps: 20}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 1,
+		Progress: func(done, total int) { cancel() }}
+	res, err = rig.Sweep(ctx, spec)
+	if err != context.Canceled {
+		t.Fatalf("cancelled sweep: err %v", err)
+	}
+	if len(res.Points) == 0 || len(res.Points) >= 20 {
+		t.Fatalf("cancelled sweep kept %d points", len(res.Points))
+	}
+	back, err := ReadSweepCSV("cancelled", bytes.NewReader(csvBytes(t, res)))
+	if err != nil || len(back.Points) != len(res.Points) {
+		t.Fatalf("cancelled sweep's CSV: %v", err)
+	}
+	if _, err := rig.Sweep(context.Background(), SweepSpec{Axes: []Axis{{Path: "no.such", Steps: 2}}, Metrics: []string{"peak_tilt"}, Duration: 1}); err == nil {
+		t.Error("an unknown parameter path was accepted")
+	}
+}
+
+func TestParseAxisAndShard(t *testing.T) {
+	a, err := ParseAxis("actuators.backlash=0:2mm:9")
+	if err != nil || a.Path != "actuators.backlash" || a.From != 0 || a.To != 0.002 || a.Steps != 9 {
+		t.Fatalf("%+v %v", a, err)
+	}
+	if v := a.Value(8); v != 0.002 {
+		t.Errorf("last value %g", v)
+	}
+	for _, bad := range []string{"x", "p=1:2", "p=a:2:3", "p=1:2:0", "=1:2:3"} {
+		if _, err := ParseAxis(bad); err == nil {
+			t.Errorf("ParseAxis(%q) accepted", bad)
+		}
+	}
+	if s, err := ParseShard("3/16"); err != nil || s != (Shard{3, 16}) {
+		t.Errorf("%v %v", s, err)
+	}
+	for _, bad := range []string{"16/16", "-1/2", "1", "a/b", "0/0"} {
+		if _, err := ParseShard(bad); err == nil {
+			t.Errorf("ParseShard(%q) accepted", bad)
+		}
+	}
+}
