@@ -12,32 +12,63 @@ import "sort"
 // mean row of its inputs (the barycentre heuristic) to cut down crossings.
 func layerNodes(inputs [][]int) (column, row []int) {
 	n := len(inputs)
-	column = make([]int, n)
+	// Find the feedback edges by a depth-first walk along the wires from the
+	// blocks without inputs (the sensors and sources): an edge into a block
+	// still on the walk's stack closes a loop.
+	outputs := make([][]int, n)
+	for i, ins := range inputs {
+		for _, j := range ins {
+			if j >= 0 && j < n && j != i {
+				outputs[j] = append(outputs[j], i)
+			}
+		}
+	}
+	feedback := map[[2]int]bool{}
 	state := make([]byte, n) // 0 unvisited, 1 on the stack, 2 done
-	var visit func(i int) int
-	visit = func(i int) int {
-		switch state[i] {
-		case 1:
-			return -1 // back edge: a cycle
-		case 2:
+	var walk func(j int)
+	walk = func(j int) {
+		state[j] = 1
+		for _, i := range outputs[j] {
+			switch state[i] {
+			case 0:
+				walk(i)
+			case 1:
+				feedback[[2]int{j, i}] = true
+			}
+		}
+		state[j] = 2
+	}
+	for i := range n {
+		if len(inputs[i]) == 0 && state[i] == 0 {
+			walk(i)
+		}
+	}
+	for i := range n {
+		if state[i] == 0 {
+			walk(i)
+		}
+	}
+	// Longest path over the remaining edges, which form no cycle.
+	column = make([]int, n)
+	done := make([]bool, n)
+	var layer func(i int) int
+	layer = func(i int) int {
+		if done[i] {
 			return column[i]
 		}
-		state[i] = 1
+		done[i] = true
 		c := 0
 		for _, j := range inputs[i] {
-			if j < 0 || j >= n || j == i {
+			if j < 0 || j >= n || j == i || feedback[[2]int{j, i}] {
 				continue
 			}
-			if cj := visit(j); cj >= 0 && cj+1 > c {
-				c = cj + 1
-			}
+			c = max(c, layer(j)+1)
 		}
-		state[i] = 2
 		column[i] = c
 		return c
 	}
-	for i := range inputs {
-		visit(i)
+	for i := range n {
+		layer(i)
 	}
 
 	maxCol := 0

@@ -1,0 +1,363 @@
+package ui
+
+import (
+	"fmt"
+	"image"
+	"image/color"
+	"math"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"sync"
+	"testing"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/test"
+	"fyne.io/fyne/v2/widget"
+
+	"teeter/models"
+	"teeter/sim"
+	"teeter/sim/live"
+)
+
+// shoveLog wraps the real plant and keeps every shove that reaches it.
+type shoveLog struct {
+	live.Plant[sim.Snapshot]
+	mu     *sync.Mutex
+	shoves *[]sim.Shove
+}
+
+func (s shoveLog) Shove(sh sim.Shove) error {
+	s.mu.Lock()
+	*s.shoves = append(*s.shoves, sh)
+	s.mu.Unlock()
+	return s.Plant.Shove(sh)
+}
+
+// openTest opens the window on a built-in robot with the test driver; the
+// plant's shoves are logged.
+func openTest(t testing.TB, model string) (*Window, func() []sim.Shove) {
+	t.Helper()
+	a := test.NewTempApp(t)
+	var mu sync.Mutex
+	var got []sim.Shove
+	build := func(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
+		p, tu, err := buildPlant(r)
+		if err != nil {
+			return nil, nil, err
+		}
+		return shoveLog{p, &mu, &got}, tu, nil
+	}
+	w, err := newWindow(a, Options{Model: model}, build)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(w.Close)
+	w.win.Resize(fyne.NewSize(1280, 800))
+	w.refresh()
+	return w, func() []sim.Shove {
+		mu.Lock()
+		defer mu.Unlock()
+		return append([]sim.Shove(nil), got...)
+	}
+}
+
+// torsoPose is where the model puts the root link at the start.
+func torsoPose(t testing.TB, w *Window) (models.Pose, *models.Link) {
+	t.Helper()
+	poses, err := w.robot.InitialPoses()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return poses[w.robot.Root], w.robot.Link(w.robot.Root)
+}
+
+func TestDragOnTheRobotShovesIt(t *testing.T) {
+	w, shoves := openTest(t, "builtin:frontal")
+	w.win.Canvas().Capture() // lays out and renders the view once
+	// Press on the root link's centre of mass as drawn now.
+	_, torso := torsoPose(t, w)
+	var pose models.Pose
+	for _, l := range w.scene.Links {
+		if l.Name == w.robot.Root {
+			pose = l.Pose
+		}
+	}
+	c := pose.Apply(torso.CenterOfMass())
+	rv := w.view
+	px, py := rv.v.toPixel(c)
+	s := rv.pixelScale()
+	start := fyne.NewPos(float32(px/s), float32(py/s))
+	const dx, dy = 40, -15 // right and up on the screen
+	// As the desktop driver does: two moves, each event carrying where the
+	// pointer is and how far it moved since the last one, then the release.
+	rv.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: start.Add(fyne.NewPos(dx/2, dy/2))}, Dragged: fyne.Delta{DX: dx / 2, DY: dy / 2}})
+	rv.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: start.Add(fyne.NewPos(dx, dy))}, Dragged: fyne.Delta{DX: dx / 2, DY: dy / 2}})
+	rv.DragEnd()
+	if err := <-w.run.StepOnce(); err != nil {
+		t.Fatal(err)
+	}
+	got := shoves()
+	if len(got) != 1 {
+		t.Fatalf("%d shoves reached the plant, want 1", len(got))
+	}
+	sh := got[0]
+	// The impulse is the stated scale (help: N*s per metre dragged) times the
+	// world distance dragged; screen y grows downwards, world y upwards.
+	metres := float64(s) / rv.v.Scale
+	want := models.Vec2{X: shoveScale * dx * metres, Y: -shoveScale * dy * metres}
+	if sh.Link != w.robot.Root || math.Abs(sh.Impulse.X-want.X) > 1e-6 || math.Abs(sh.Impulse.Y-want.Y) > 1e-6 {
+		t.Fatalf("shove %+v on %q, want %+v on %q", sh.Impulse, sh.Link, want, w.robot.Root)
+	}
+	if sh.Impulse.X <= 0 || sh.Impulse.Y <= 0 {
+		t.Fatalf("a drag right and up gave %+v", sh.Impulse)
+	}
+	// Applied where the drag started: the torso's centre of mass in its frame.
+	com := torso.CenterOfMass()
+	if sh.Point == nil || math.Hypot(sh.Point.X-com.X, sh.Point.Y-com.Y) > 1e-3 {
+		t.Fatalf("shove point %v, want %v", sh.Point, com)
+	}
+
+	// Through the canvas: the drag finds the view under the pointer.
+	origin := fyne.CurrentApp().Driver().AbsolutePositionForObject(rv)
+	test.Drag(w.win.Canvas(), origin.Add(start).Add(fyne.NewPos(dx, dy)), dx, dy)
+	<-w.run.StepOnce()
+	if got := shoves(); len(got) != 2 || got[1].Link != w.robot.Root || math.Abs(got[1].Impulse.X-want.X) > 1e-6 {
+		t.Fatalf("a drag through the canvas gave %+v, want %+v", got[1:], want)
+	}
+
+	// Keyboard shoves go left and right by the set size.
+	w.keyShove = 3
+	w.typedKey(&fyne.KeyEvent{Name: fyne.KeyLeft})
+	<-w.run.StepOnce()
+	if got := shoves(); len(got) != 3 || got[2].Impulse.X != -3 || got[2].Impulse.Y != 0 {
+		t.Fatalf("keyboard shove: %+v", got)
+	}
+}
+
+func TestGainSliderTunesTheRunningGraphAndUndoRestores(t *testing.T) {
+	w, _ := openTest(t, "builtin:frontal")
+	if len(w.params) == 0 {
+		t.Fatal("the frontal robot's controller has no tunable parameters")
+	}
+	p := w.params[0]
+	for _, q := range w.params {
+		if strings.HasSuffix(q.Path, ".kp") {
+			p = q
+			break
+		}
+	}
+	row := w.gainRows[p.Path]
+	want := p.Value + (row.slider.Max-row.slider.Min)/4
+	if want > row.slider.Max {
+		want = p.Value - (row.slider.Max-row.slider.Min)/4
+	}
+	want = math.Round(want/row.slider.Step) * row.slider.Step
+	row.slider.SetValue(want)
+	if got, err := w.run.Gain(p.Path); err != nil || math.Abs(got-want) > 1e-12 {
+		t.Fatalf("%s in the running graph is %g (%v), want %g", p.Path, got, err, want)
+	}
+	w.Undo()
+	if got, _ := w.run.Gain(p.Path); got != p.Value {
+		t.Fatalf("after undo %s is %g, want the file value %g", p.Path, got, p.Value)
+	}
+	if row.slider.Value != math.Max(row.slider.Min, math.Min(row.slider.Max, p.Value)) {
+		t.Fatalf("slider shows %g after undo", row.slider.Value)
+	}
+	w.Redo()
+	if got, _ := w.run.Gain(p.Path); math.Abs(got-want) > 1e-12 {
+		t.Fatalf("after redo %s is %g, want %g", p.Path, got, want)
+	}
+	// The entry refuses a wrong unit and says why; nothing is applied.
+	row.field.Entry.SetText("3 kg")
+	if row.field.submit(row.field.Entry.Text) || !row.field.Reason.Visible() {
+		t.Fatal("a mass was accepted for a gain")
+	}
+	if got, _ := w.run.Gain(p.Path); math.Abs(got-want) > 1e-12 {
+		t.Fatalf("a refused entry changed the gain to %g", got)
+	}
+}
+
+func TestEntriesRefuseBadText(t *testing.T) {
+	var applied []float64
+	f := newNumberField("m", 0, 0.01, func(v float64) { applied = append(applied, v) })
+	for _, bad := range []string{"abc", "5 deg", "2 cm", "-1 mm", "NaN"} {
+		// 2 cm is 0.02 m, above the 0.01 m limit; 5 deg is an angle, not a length.
+		if f.submit(bad) {
+			t.Errorf("%q was accepted", bad)
+		}
+		if f.Reason.Text == "" || !f.Reason.Visible() {
+			t.Errorf("%q refused without a reason", bad)
+		}
+	}
+	if !f.submit("2 mm") || len(applied) != 1 || math.Abs(applied[0]-0.002) > 1e-15 {
+		t.Fatalf("2 mm gave %v, want 0.002 m (SI: 1 mm = 0.001 m)", applied)
+	}
+	if f.Reason.Visible() {
+		t.Fatal("the reason stayed after a good entry")
+	}
+}
+
+func TestBadRobotFileShowsEveryProblemAndKeepsTheSession(t *testing.T) {
+	w, _ := openTest(t, "builtin:frontal")
+	src, err := models.BuiltinSource("frontal")
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(string(src), "\n")
+	// Break two fields on two known lines: a negative mass and a number
+	// that is not one.
+	var broken []int
+	for i, l := range lines {
+		if strings.Contains(l, "mass:") && len(broken) < 2 {
+			indent := l[:len(l)-len(strings.TrimLeft(l, " "))]
+			if len(broken) == 0 {
+				lines[i] = indent + "mass: -3 kg"
+			} else {
+				lines[i] = indent + "mass: heavy"
+			}
+			broken = append(broken, i+1)
+		}
+	}
+	path := filepath.Join(t.TempDir(), "bad.yaml")
+	if err := os.WriteFile(path, []byte(strings.Join(lines, "\n")), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	before := w.robot
+	if err := w.OpenRobot(path); err == nil {
+		t.Fatal("a bad file opened")
+	}
+	if w.robot != before {
+		t.Fatal("the session's robot was replaced")
+	}
+	text := dialogText(t, w.win.Canvas())
+	for _, line := range broken {
+		if !strings.Contains(text, fmt.Sprintf("bad.yaml:%d:", line)) {
+			t.Errorf("the error does not point at line %d:\n%s", line, text)
+		}
+	}
+	if err := <-w.run.StepOnce(); err != nil {
+		t.Fatalf("the kept session does not run: %v", err)
+	}
+}
+
+// dialogText gathers the text of the labels shown over the window.
+func dialogText(t *testing.T, c fyne.Canvas) string {
+	var b strings.Builder
+	var walk func(o fyne.CanvasObject)
+	walk = func(o fyne.CanvasObject) {
+		switch v := o.(type) {
+		case *widget.Label:
+			b.WriteString(v.Text + "\n")
+		case fyne.Widget:
+			r := test.TempWidgetRenderer(t, v)
+			for _, ch := range r.Objects() {
+				walk(ch)
+			}
+			return
+		case *fyne.Container:
+			for _, ch := range v.Objects {
+				walk(ch)
+			}
+		}
+	}
+	for _, o := range c.Overlays().List() {
+		walk(o)
+	}
+	return b.String()
+}
+
+func near(a, b color.RGBA, tol int) bool {
+	d := func(x, y uint8) bool { return int(x)-int(y) <= tol && int(y)-int(x) <= tol }
+	return d(a.R, b.R) && d(a.G, b.G) && d(a.B, b.B)
+}
+
+func TestRobotViewDrawsTheRobotWhereTheModelSays(t *testing.T) {
+	for _, model := range []string{"builtin:frontal", "builtin:sagittal", "builtin:pendulum"} {
+		w, _ := openTest(t, model)
+		img := w.view.render(640, 480).(*image.RGBA)
+		colours := map[color.RGBA]bool{}
+		for y := 0; y < 480; y += 4 {
+			for x := 0; x < 640; x += 4 {
+				colours[img.RGBAAt(x, y)] = true
+			}
+		}
+		if len(colours) < 6 {
+			t.Errorf("%s: the view has %d colours: blank", model, len(colours))
+		}
+		// The root link's shape centre, placed by the model's own initial
+		// poses, projected with the view, must be painted in the root colour.
+		pose, root := torsoPose(t, w)
+		c := pose.Apply(root.Shape.Center)
+		px, py := w.view.v.toPixel(c)
+		hits, total := 0, 0
+		for dy := -3; dy <= 3; dy++ {
+			for dx := -3; dx <= 3; dx++ {
+				total++
+				if near(img.RGBAAt(int(px)+dx, int(py)+dy), colTorso, 8) {
+					hits++
+				}
+			}
+		}
+		if hits < total*3/4 {
+			t.Errorf("%s: %d of %d pixels around the root centre (%.0f, %.0f) have the root colour", model, hits, total, px, py)
+		}
+		// And the ground line is below it.
+		gx, gy := w.view.v.toPixel(models.Vec2{X: c.X, Y: -0.01})
+		if !near(img.RGBAAt(int(gx), int(gy)+3), colGround, 8) {
+			t.Errorf("%s: no ground under the robot at (%.0f, %.0f)", model, gx, gy)
+		}
+	}
+}
+
+func TestLongestPathLayering(t *testing.T) {
+	// A diamond a->b, a->c, b->d, c->d plus a->d: the longest path to d has
+	// two edges, so d is in layer 2 although a feeds it directly (longest-path
+	// layering, Healy and Nikolov, "Graph drawing handbook" ch. 13).
+	// A feedback edge d->b must not change the layers.
+	inputs := [][]int{{}, {0, 3}, {0}, {1, 2, 0}}
+	col, row := layerNodes(inputs)
+	want := []int{0, 1, 1, 2}
+	for i := range want {
+		if col[i] != want[i] {
+			t.Fatalf("layers %v, want %v", col, want)
+		}
+	}
+	if row[1] == row[2] {
+		t.Fatalf("b and c share row %d in one layer", row[1])
+	}
+}
+
+func TestHelpHasTheSafetyNotes(t *testing.T) {
+	h := helpText()
+	for _, s := range []string{"not a certificate", "crush fingers", "tethered", "emergency stop", "local codes"} {
+		if !strings.Contains(h, s) {
+			t.Errorf("help lacks %q", s)
+		}
+	}
+}
+
+// BenchmarkFrame draws one frame: the robot view and six traces over a
+// 10 s window of a run, as the window's refresh does.
+func BenchmarkFrame(b *testing.B) {
+	w, _ := openTest(b, "builtin:frontal")
+	<-w.run.SetSpeed(0)
+	<-w.run.Run()
+	for w.run.Status().Time < 10 && w.run.Status().Err == nil && !w.run.Status().Fallen {
+		runtime.Gosched()
+	}
+	<-w.run.Pause()
+	w.lastVer = 0
+	w.refresh()
+	if len(w.traces.shown) != 6 {
+		b.Fatalf("%d traces shown, want 6", len(w.traces.shown))
+	}
+	b.ResetTimer()
+	for range b.N {
+		w.lastVer = 0
+		w.refresh()
+		w.view.render(800, 500)
+		w.traces.render(800, 420)
+	}
+}
