@@ -102,17 +102,16 @@ func (p *Plant) buildActuator(m *models.Actuator, a *actuator) error {
 	if m.Kind == models.TorqueMotor {
 		return nil
 	}
-	var axis cp.Vector
-	geometry := limitDistance
+	c := coord{geometry: limitDistance, a: a.a, b: a.b, anchorA: a.anchorA, anchorB: a.anchorB}
 	switch a.drive {
 	case driveRotary:
-		geometry = limitAngle
+		c.geometry = limitAngle
 	case driveSlide:
-		geometry, axis = limitAxis, a.jnt.axis
+		c.geometry, c.axis = limitAxis, a.jnt.axis
 	case driveBallast:
-		geometry, axis = limitAxis, a.bal.axis
+		c.geometry, c.axis = limitAxis, a.bal.axis
 	}
-	a.limit = newScrewLimit(geometry, a.a, a.b, a.anchorA, a.anchorB, axis, a.screw, actuatorCorrection)
+	a.limit = newScrewLimit(c, a.screw, actuatorCorrection)
 	p.space.AddConstraint(a.limit.Constraint)
 	if a.bal != nil {
 		a.bal.limit = a.limit

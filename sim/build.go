@@ -47,24 +47,23 @@ func (j *joint) position() float64 {
 	return d.Dot(pb.Rotation().Rotate(j.axis))
 }
 
+// pad is a compliant pad under a foot (see padContact).
 type pad struct {
-	name      string
-	foot      *link
-	body      *cp.Body
-	rest      cp.Vector // pad centre fully extended, in the foot's body frame
-	width     float64
-	thickness float64
-	contact   *padContact
+	name             string
+	foot             *link
+	rest             cp.Vector // pad centre fully extended, in the foot's body frame
+	width, thickness float64
+	travel           float64
+	contact          *padContact
 	// Results of the last step.
 	compression, force float64
 }
 
-// compressionNow is how far the pad is pushed into the foot from full
-// extension, along the foot's vertical.
-func (p *pad) compressionNow() float64 {
+// centre is the pad's centre, world: pushed into the foot by its
+// compression.
+func (p *pad) centre() cp.Vector {
 	fb := p.foot.body
-	d := p.body.Position().Sub(fb.LocalToWorld(p.rest))
-	return d.Dot(fb.Rotation().Perp())
+	return fb.LocalToWorld(p.rest).Add(fb.Rotation().Perp().Mult(p.compression))
 }
 
 type ballast struct {
@@ -82,11 +81,6 @@ func (b *ballast) position() float64 {
 	lb := b.link.body
 	return b.body.Position().Sub(lb.LocalToWorld(b.origin)).Dot(lb.Rotation().Rotate(b.axis))
 }
-
-// slideOffset is the length added to a slide joint that measures a
-// coordinate along an axis, so that the measured distance stays positive:
-// the fixed anchor sits this far behind the coordinate's zero.
-const slideOffset = 1.0
 
 // Per-step fractions of position error removed by the constraints' bias.
 // cp's defaults are set for 60 Hz games; these are chosen for a 1 kHz step

@@ -4,6 +4,8 @@ import (
 	"math"
 
 	"github.com/jakecoffman/cp/v2"
+
+	"teeter/models"
 )
 
 // The pads touch the ground through a contact constraint of our own rather
@@ -74,90 +76,138 @@ const (
 	contactBias = 0.2
 )
 
-// padContact holds a pad's bottom centre on the ground, with Coulomb
-// friction of the pad's own coefficient, solved by sequential impulses like
-// cp's own contacts. A pad is a compliant point: its spring gives it its
-// compliance, and its width only shows in drawings and the support region.
-// (Two rigid corner contacts on a pad locked to its foot make the loads
-// statically indeterminate within the contact slop, so pads settled with
-// unequal loads.) The pad cannot turn relative to its foot, so the moment
-// of a contact impulse about the pad's centre goes straight to the foot's
-// rotation rather than through the pad's tiny inertia and the lock, which
-// Gauss-Seidel handles badly.
+// padContact is a pad pressing its foot against the ground. The pad is
+// massless and part of its foot (its mass is added to the foot's): a point
+// contact at its bottom centre through a spring and damper in parallel,
+// then a hard end stop once the free travel is used up, with Coulomb
+// friction of the pad's own coefficient. The compression is how far the
+// fully extended pad's bottom would be below the ground.
+//
+// Why not a pad body on a groove: a light pad under a heavy robot is a
+// mass ratio of a thousand across the groove, which Gauss-Seidel does not
+// converge on in a reasonable number of iterations (the rocking mode grew
+// without bound with 10 g pads under 10 kg). The spring is applied
+// explicitly, as cp's damped spring does, which is stable here because it
+// acts on the foot's mass and free of the numerical damping an implicit
+// spring would add; the damper is implicit.
 type padContact struct {
 	*cp.Constraint
-	body, foot   *cp.Body
-	ground       *ground
-	halfT        float64
-	friction     float64
-	mInv, iInv   float64
-	active       bool
-	r, n         cp.Vector // pad centre to contact point, world; outward ground normal
-	nMass, tMass float64
-	bias         float64 // target normal velocity
-	jn, jt       float64 // accumulated normal and tangent impulses
+	foot                     *cp.Body
+	ground                   *ground
+	bottom                   cp.Vector // body-local: the pad's bottom centre fully extended
+	stiffness, damping       float64
+	travel, friction         float64
+	depth                    float64 // of the extended bottom below the ground, last step
+	active, touching, atStop bool
+	r, n                     cp.Vector
+	nMass, tMass, dampMass   float64
+	dampGamma, stopBias      float64
+	js, jd, jh, jt           float64 // spring, damper, stop and friction impulses
 }
 
-func newPadContact(body, foot, static *cp.Body, g *ground, thickness, friction float64) *padContact {
-	c := &padContact{body: body, foot: foot, ground: g, halfT: thickness / 2, friction: friction}
-	c.Constraint = cp.NewConstraint(c, body, static)
+func newPadContact(foot, static *cp.Body, g *ground, bottom cp.Vector, m *models.Pad) *padContact {
+	c := &padContact{foot: foot, ground: g, bottom: bottom, stiffness: m.Stiffness, damping: m.Damping,
+		travel: m.Travel, friction: m.Friction}
+	c.Constraint = cp.NewConstraint(c, foot, static)
 	return c
 }
 
 func (c *padContact) PreStep(dt float64) {
-	b := c.body
-	c.mInv, c.iInv = 1/b.Mass(), 1/(c.foot.Moment()+b.Moment())
-	r := b.Rotation().Rotate(cp.Vector{Y: -c.halfT})
-	d, n := c.ground.depth(b.Position().Add(r))
-	if d < -contactMargin {
-		c.active, c.jn, c.jt = false, 0, 0
+	b := c.foot
+	p := b.LocalToWorld(c.bottom)
+	d, n := c.ground.depth(p)
+	c.depth = d
+	c.js = 0
+	gap := c.travel - d // left before the stop
+	c.active = d > -contactMargin
+	c.touching = d > 0
+	c.atStop = gap < contactMargin
+	if !c.active {
+		c.jd, c.jh, c.jt = 0, 0, 0
 		return
 	}
-	c.active, c.r, c.n = true, r, n
-	rn, rt := r.Cross(n), r.Cross(n.Perp())
-	c.nMass = 1 / (c.mInv + c.iInv*rn*rn)
-	c.tMass = 1 / (c.mInv + c.iInv*rt*rt)
-	switch {
-	case d > contactSlop:
-		c.bias = contactBias * (d - contactSlop) / dt
-	case d < 0:
-		c.bias = d / dt // may approach by the gap, no faster
-	default:
-		c.bias = 0
+	c.r, c.n = p.Sub(b.Position()), n
+	rn, rt := c.r.Cross(n), c.r.Cross(n.Perp())
+	kn := 1/b.Mass() + rn*rn/b.Moment()
+	c.nMass = 1 / kn
+	c.tMass = 1 / (1/b.Mass() + rt*rt/b.Moment())
+	if c.touching {
+		// Spring: explicit, applied now.
+		c.js = c.stiffness * d * dt
+		c.impulse(c.n.Mult(c.js))
+		if c.damping > 0 {
+			// Damper: implicit, as a soft constraint without stiffness.
+			c.dampGamma = 1 / (dt * c.damping)
+			c.dampMass = 1 / (kn + c.dampGamma)
+		}
+	} else {
+		c.jd = 0
+	}
+	if c.atStop {
+		switch {
+		case gap >= 0:
+			c.stopBias = -gap / dt // may approach the stop by the gap, no faster
+		case gap < -contactSlop:
+			c.stopBias = -contactBias * (gap + contactSlop) / dt
+		default:
+			c.stopBias = 0
+		}
+	} else {
+		c.jh = 0
 	}
 }
 
-func (c *padContact) apply(j cp.Vector) {
-	b, f := c.body, c.foot
-	b.SetVelocityVector(b.Velocity().Add(j.Mult(c.mInv)))
-	f.SetAngularVelocity(f.AngularVelocity() + c.iInv*c.r.Cross(j))
+func (c *padContact) impulse(j cp.Vector) {
+	b := c.foot
+	b.SetVelocityVector(b.Velocity().Add(j.Mult(1 / b.Mass())))
+	b.SetAngularVelocity(b.AngularVelocity() + c.r.Cross(j)/b.Moment())
 }
 
 func (c *padContact) ApplyCachedImpulse(dtCoef float64) {
-	if c.active {
-		c.apply(c.n.Rotate(cp.Vector{X: c.jn, Y: c.jt}).Mult(dtCoef))
+	if !c.active {
+		return
 	}
+	c.jd *= dtCoef
+	c.jh *= dtCoef
+	c.jt *= dtCoef
+	c.impulse(c.n.Rotate(cp.Vector{X: c.jd + c.jh, Y: c.jt}))
+}
+
+func (c *padContact) normalVelocity() (float64, float64) {
+	b := c.foot
+	vr := b.Velocity().Add(c.r.Perp().Mult(b.AngularVelocity()))
+	return vr.Dot(c.n), vr.Dot(c.n.Perp())
 }
 
 func (c *padContact) ApplyImpulse(dt float64) {
 	if !c.active {
 		return
 	}
-	vr := c.body.Velocity().Add(c.r.Perp().Mult(c.foot.AngularVelocity()))
-	t := c.n.Perp()
-	jnOld := c.jn
-	c.jn = math.Max(jnOld+(c.bias-vr.Dot(c.n))*c.nMass, 0)
-	jtMax := c.friction * c.jn
-	jtOld := c.jt
-	c.jt = cp.Clamp(jtOld-vr.Dot(t)*c.tMass, -jtMax, jtMax)
-	c.apply(c.n.Rotate(cp.Vector{X: c.jn - jnOld, Y: c.jt - jtOld}))
+	if c.touching && c.damping > 0 {
+		vn, _ := c.normalVelocity()
+		old := c.jd
+		// The pad cannot pull: spring and damper together push or nothing.
+		c.jd = math.Max(old-c.dampMass*(vn+c.dampGamma*old), -c.js)
+		c.impulse(c.n.Mult(c.jd - old))
+	}
+	if c.atStop {
+		vn, _ := c.normalVelocity()
+		old := c.jh
+		c.jh = math.Max(old+(c.stopBias-vn)*c.nMass, 0)
+		c.impulse(c.n.Mult(c.jh - old))
+	}
+	_, vt := c.normalVelocity()
+	max := c.friction * (c.js + c.jd + c.jh)
+	old := c.jt
+	c.jt = cp.Clamp(old-vt*c.tMass, -max, max)
+	c.impulse(c.n.Perp().Mult(c.jt - old))
 }
 
 // GetImpulse is the normal impulse of the last step.
-func (c *padContact) GetImpulse() float64 { return c.jn }
+func (c *padContact) GetImpulse() float64 { return c.js + c.jd + c.jh }
 
 // point is the contact point, world.
-func (c *padContact) point() cp.Vector { return c.body.Position().Add(c.r) }
+func (c *padContact) point() cp.Vector { return c.foot.LocalToWorld(c.bottom) }
 
 // slideFriction is Coulomb friction along a prismatic joint: the relative
 // velocity of the two anchors along the axis is driven to zero with an
@@ -212,7 +262,7 @@ func (f *slideFriction) ApplyImpulse(dt float64) {
 
 func (f *slideFriction) GetImpulse() float64 { return math.Abs(f.jAcc) }
 
-// What a screwLimit measures.
+// What a coordinate between two bodies measures.
 type limitGeometry int
 
 const (
@@ -221,58 +271,103 @@ const (
 	limitAngle                         // b's angle minus a's
 )
 
+// coord is a scalar coordinate q of two bodies with what a constraint on it
+// needs: its rate, its effective mass and how an impulse along it acts.
+type coord struct {
+	geometry         limitGeometry
+	a, b             *cp.Body
+	anchorA, anchorB cp.Vector // body-local
+	axis             cp.Vector // limitAxis: in a's body frame
+	r1, r2, n        cp.Vector // lever arms and direction of the step
+}
+
+// measure returns q and sets the lever arms for the step. For limitAxis,
+// r1 reaches a's material point under b's anchor, which makes the rate
+// exact while the axis turns.
+func (c *coord) measure() float64 {
+	a, b := c.a, c.b
+	switch c.geometry {
+	case limitAngle:
+		return b.Angle() - a.Angle()
+	case limitAxis:
+		pa, pb := a.LocalToWorld(c.anchorA), b.LocalToWorld(c.anchorB)
+		c.n = a.Rotation().Rotate(c.axis)
+		c.r1, c.r2 = pb.Sub(a.Position()), pb.Sub(b.Position())
+		return pb.Sub(pa).Dot(c.n)
+	}
+	pa, pb := a.LocalToWorld(c.anchorA), b.LocalToWorld(c.anchorB)
+	d := pb.Sub(pa)
+	dist := d.Length()
+	if dist > 0 {
+		c.n = d.Mult(1 / dist)
+	} else {
+		c.n = cp.Vector{X: 1}
+	}
+	c.r1, c.r2 = pa.Sub(a.Position()), pb.Sub(b.Position())
+	return dist
+}
+
+// invMass is the inverse effective mass along q.
+func (c *coord) invMass() float64 {
+	a, b := c.a, c.b
+	if c.geometry == limitAngle {
+		return 1/a.Moment() + 1/b.Moment()
+	}
+	r1n, r2n := c.r1.Cross(c.n), c.r2.Cross(c.n)
+	return 1/a.Mass() + 1/b.Mass() + r1n*r1n/a.Moment() + r2n*r2n/b.Moment()
+}
+
+func (c *coord) velocity() float64 {
+	a, b := c.a, c.b
+	if c.geometry == limitAngle {
+		return b.AngularVelocity() - a.AngularVelocity()
+	}
+	va := a.Velocity().Add(c.r1.Perp().Mult(a.AngularVelocity()))
+	vb := b.Velocity().Add(c.r2.Perp().Mult(b.AngularVelocity()))
+	return vb.Sub(va).Dot(c.n)
+}
+
+// impulse applies j along +q: to b, and its reaction to a.
+func (c *coord) impulse(j float64) {
+	a, b := c.a, c.b
+	if c.geometry == limitAngle {
+		a.SetAngularVelocity(a.AngularVelocity() - j/a.Moment())
+		b.SetAngularVelocity(b.AngularVelocity() + j/b.Moment())
+		return
+	}
+	jv := c.n.Mult(j)
+	a.SetVelocityVector(a.Velocity().Sub(jv.Mult(1 / a.Mass())))
+	a.SetAngularVelocity(a.AngularVelocity() - c.r1.Cross(jv)/a.Moment())
+	b.SetVelocityVector(b.Velocity().Add(jv.Mult(1 / b.Mass())))
+	b.SetAngularVelocity(b.AngularVelocity() + c.r2.Cross(jv)/b.Moment())
+}
+
 // screwLimit keeps a coordinate q of two bodies within [Min, Max], edges
 // that move at Speed: the output of a lead screw with backlash, free inside
 // the band and driven rigidly, with unlimited force, at its edges. Unlike
 // cp's slide and rotary-limit joints it keeps a signed impulse per edge
-// (the load is read from it), warm-starts each edge on its own, and feeds
-// the edges' speed forward so a moving screw is followed without lag.
-// Each edge is a speculative one-sided constraint: the coordinate may
-// approach an edge by the gap in a step, no faster.
+// (the load is read from it; cp's slide joint also flips its direction
+// between steps when Min = Max yet warm-starts with the old impulse, which
+// left the robots rocking), warm-starts each edge on its own, and feeds the
+// edges' speed forward so a moving screw is followed without lag. Each
+// edge is a speculative one-sided constraint: the coordinate may approach
+// an edge by the gap in a step, no faster.
 type screwLimit struct {
 	*cp.Constraint
-	geometry         limitGeometry
-	anchorA, anchorB cp.Vector // body-local
-	axis             cp.Vector // limitAxis: in a's body frame
-	Min, Max, Speed  float64
-	correction       float64 // fraction of a violation removed per step
+	coord
+	Min, Max, Speed float64
+	correction      float64 // fraction of a violation removed per step
 
-	q, mass  float64
-	r1, r2   cp.Vector
-	n        cp.Vector
+	mass     float64
 	biasLo   float64 // the velocity bounds of the step
 	biasHi   float64
 	jLo, jHi float64 // accumulated impulses: jLo >= 0 pushes q up, jHi <= 0 down
 }
 
-func newScrewLimit(geometry limitGeometry, a, b *cp.Body, anchorA, anchorB, axis cp.Vector, q, correction float64) *screwLimit {
-	l := &screwLimit{geometry: geometry, anchorA: anchorA, anchorB: anchorB, axis: axis, Min: q, Max: q, correction: correction}
-	l.Constraint = cp.NewConstraint(l, a, b)
+func newScrewLimit(c coord, q, correction float64) *screwLimit {
+	l := &screwLimit{coord: c, Min: q, Max: q, correction: correction}
+	l.Constraint = cp.NewConstraint(l, c.a, c.b)
 	return l
-}
-
-// coordinate measures q and, for the linear kinds, the lever arms.
-func (l *screwLimit) coordinate() float64 {
-	a, b := l.A(), l.B()
-	switch l.geometry {
-	case limitAngle:
-		return b.Angle() - a.Angle()
-	case limitAxis:
-		pa, pb := a.LocalToWorld(l.anchorA), b.LocalToWorld(l.anchorB)
-		l.n = a.Rotation().Rotate(l.axis)
-		l.r1, l.r2 = pb.Sub(a.Position()), pb.Sub(b.Position())
-		return pb.Sub(pa).Dot(l.n)
-	}
-	pa, pb := a.LocalToWorld(l.anchorA), b.LocalToWorld(l.anchorB)
-	d := pb.Sub(pa)
-	dist := d.Length()
-	if dist > 0 {
-		l.n = d.Mult(1 / dist)
-	} else {
-		l.n = cp.Vector{X: 1}
-	}
-	l.r1, l.r2 = pa.Sub(a.Position()), pb.Sub(b.Position())
-	return dist
 }
 
 // edgeRate is the speed at which q may close a gap to an edge in a step:
@@ -285,41 +380,11 @@ func (l *screwLimit) edgeRate(gap, dt float64) float64 {
 }
 
 func (l *screwLimit) PreStep(dt float64) {
-	a, b := l.A(), l.B()
-	l.q = l.coordinate()
-	if l.geometry == limitAngle {
-		l.mass = 1 / (1/a.Moment() + 1/b.Moment())
-	} else {
-		r1n, r2n := l.r1.Cross(l.n), l.r2.Cross(l.n)
-		l.mass = 1 / (1/a.Mass() + 1/b.Mass() + r1n*r1n/a.Moment() + r2n*r2n/b.Moment())
-	}
+	q := l.measure()
+	l.mass = 1 / l.invMass()
 	// Over the step q' must stay within [biasLo, biasHi].
-	l.biasLo = l.Speed - l.edgeRate(l.q-l.Min, dt)
-	l.biasHi = l.Speed + l.edgeRate(l.Max-l.q, dt)
-}
-
-func (l *screwLimit) velocity() float64 {
-	a, b := l.A(), l.B()
-	if l.geometry == limitAngle {
-		return b.AngularVelocity() - a.AngularVelocity()
-	}
-	va := a.Velocity().Add(l.r1.Perp().Mult(a.AngularVelocity()))
-	vb := b.Velocity().Add(l.r2.Perp().Mult(b.AngularVelocity()))
-	return vb.Sub(va).Dot(l.n)
-}
-
-func (l *screwLimit) impulse(j float64) {
-	a, b := l.A(), l.B()
-	if l.geometry == limitAngle {
-		a.SetAngularVelocity(a.AngularVelocity() - j/a.Moment())
-		b.SetAngularVelocity(b.AngularVelocity() + j/b.Moment())
-		return
-	}
-	jv := l.n.Mult(j)
-	a.SetVelocityVector(a.Velocity().Sub(jv.Mult(1 / a.Mass())))
-	a.SetAngularVelocity(a.AngularVelocity() - l.r1.Cross(jv)/a.Moment())
-	b.SetVelocityVector(b.Velocity().Add(jv.Mult(1 / b.Mass())))
-	b.SetAngularVelocity(b.AngularVelocity() + l.r2.Cross(jv)/b.Moment())
+	l.biasLo = l.Speed - l.edgeRate(q-l.Min, dt)
+	l.biasHi = l.Speed + l.edgeRate(l.Max-q, dt)
 }
 
 func (l *screwLimit) ApplyCachedImpulse(dtCoef float64) {
@@ -329,15 +394,55 @@ func (l *screwLimit) ApplyCachedImpulse(dtCoef float64) {
 }
 
 func (l *screwLimit) ApplyImpulse(dt float64) {
-	v := l.velocity()
 	old := l.jLo
-	l.jLo = math.Max(old+(l.biasLo-v)*l.mass, 0)
+	l.jLo = math.Max(old+(l.biasLo-l.velocity())*l.mass, 0)
 	l.impulse(l.jLo - old)
-	v = l.velocity()
 	old = l.jHi
-	l.jHi = math.Min(old+(l.biasHi-v)*l.mass, 0)
+	l.jHi = math.Min(old+(l.biasHi-l.velocity())*l.mass, 0)
 	l.impulse(l.jHi - old)
 }
 
 // GetImpulse is the signed impulse of the last step along +q.
 func (l *screwLimit) GetImpulse() float64 { return l.jLo + l.jHi }
+
+// softSpring is a spring and damper on a coordinate, pulling q towards
+// Rest, solved implicitly as a soft constraint (E. Catto, "Soft
+// constraints", GDC 2011): stable for any stiffness at any step, where
+// cp's damped springs apply the spring force explicitly and blow up once
+// sqrt(k/m)*dt passes 2, as a light pad on a stiff spring does.
+type softSpring struct {
+	*cp.Constraint
+	coord
+	rest, stiffness, damping float64
+
+	mass, bias, gamma, jAcc float64
+}
+
+func newSoftSpring(c coord, rest, stiffness, damping float64) *softSpring {
+	s := &softSpring{coord: c, rest: rest, stiffness: stiffness, damping: damping}
+	s.Constraint = cp.NewConstraint(s, c.a, c.b)
+	return s
+}
+
+func (s *softSpring) PreStep(dt float64) {
+	q := s.measure()
+	// Implicit Euler of f = -k (q - rest) - c q'.
+	d := s.damping + dt*s.stiffness
+	s.gamma = 1 / (dt * d)
+	s.bias = (q - s.rest) * s.stiffness / d
+	s.mass = 1 / (s.invMass() + s.gamma)
+}
+
+func (s *softSpring) ApplyCachedImpulse(dtCoef float64) {
+	s.jAcc *= dtCoef
+	s.impulse(s.jAcc)
+}
+
+func (s *softSpring) ApplyImpulse(dt float64) {
+	j := -s.mass * (s.velocity() + s.bias + s.gamma*s.jAcc)
+	s.jAcc += j
+	s.impulse(j)
+}
+
+// GetImpulse is the spring's impulse of the last step along +q.
+func (s *softSpring) GetImpulse() float64 { return s.jAcc }

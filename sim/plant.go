@@ -199,8 +199,8 @@ func check(r *models.Robot) error {
 	}
 	for _, f := range r.Feet {
 		for _, p := range f.Pads {
-			if !(p.Mass > 0) || !(p.Stiffness > 0) || !(p.Width > 0) || !(p.Thickness > 0) || p.Travel < 0 {
-				return fmt.Errorf("pad %q: mass, stiffness, width and thickness must be positive and travel not negative", p.Name)
+			if p.Mass < 0 || !(p.Stiffness > 0) || !(p.Width > 0) || !(p.Thickness > 0) || p.Travel < 0 || p.Damping < 0 || p.Friction < 0 {
+				return fmt.Errorf("pad %q: stiffness, width and thickness must be positive, mass, damping, friction and travel not negative", p.Name)
 			}
 		}
 	}
@@ -255,11 +255,11 @@ func (p *Plant) build() error {
 		}
 		p.linkIndex[ml.Name] = i
 		pose := poses[ml.Name]
-		com := ml.CenterOfMass()
+		mass, inertia, com := linkMass(r, ml)
 		w := pose.Apply(com)
 		l := &p.links[i]
 		*l = link{name: ml.Name, com: com, shape: ml.Shape}
-		l.body = p.addBody(ml.Name, ml.Mass, ml.MomentOfInertia(), cp.Vector{X: w.X, Y: w.Y}, pose.Angle)
+		l.body = p.addBody(ml.Name, mass, inertia, cp.Vector{X: w.X, Y: w.Y}, pose.Angle)
 		pts, rad := shapeCorners(ml.Shape)
 		p.corners = append(p.corners, pts)
 		p.radii = append(p.radii, rad)
@@ -299,7 +299,8 @@ func (p *Plant) build() error {
 	}
 	if b := p.ballast; b != nil && b.limit == nil {
 		// No actuator drives it: hold it where it was written.
-		b.limit = newScrewLimit(limitAxis, b.link.body, b.body, b.origin, cp.Vector{}, b.axis, r.Ballast.Position, actuatorCorrection)
+		c := coord{geometry: limitAxis, a: b.link.body, b: b.body, anchorA: b.origin, axis: b.axis}
+		b.limit = newScrewLimit(c, r.Ballast.Position, actuatorCorrection)
 		p.space.AddConstraint(b.limit.Constraint)
 	}
 	p.battery = newBattery(r.Battery)
@@ -329,8 +330,8 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 			p.addConstraint(cp.NewRotaryLimitJoint(a, b, mj.Lower, mj.Upper), jointCorrection)
 		}
 		if mj.Stiffness > 0 || mj.Damping > 0 {
-			// cp's spring pulls a.angle - b.angle towards RestAngle.
-			p.addConstraint(cp.NewDampedRotarySpring(a, b, -mj.Initial, mj.Stiffness, mj.Damping), jointCorrection)
+			c := coord{geometry: limitAngle, a: a, b: b}
+			p.space.AddConstraint(newSoftSpring(c, mj.Initial, mj.Stiffness, mj.Damping).Constraint)
 		}
 		if mj.Friction > 0 {
 			// A motor holding zero relative speed with bounded torque is
@@ -353,8 +354,8 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 		p.addConstraint(cp.NewGrooveJoint(a, b, j.pAnchor.Add(j.axis.Mult(lo)), j.pAnchor.Add(j.axis.Mult(hi)), j.cAnchor), jointCorrection)
 		p.addConstraint(cp.NewGearJoint(a, b, 0, 1), jointCorrection)
 		if mj.Stiffness > 0 || mj.Damping > 0 {
-			back := j.pAnchor.Sub(j.axis.Mult(slideOffset))
-			p.addConstraint(cp.NewDampedSpring(a, b, back, j.cAnchor, slideOffset+mj.Initial, mj.Stiffness, mj.Damping), jointCorrection)
+			c := coord{geometry: limitAxis, a: a, b: b, anchorA: j.pAnchor, anchorB: j.cAnchor, axis: j.axis}
+			p.space.AddConstraint(newSoftSpring(c, mj.Initial, mj.Stiffness, mj.Damping).Constraint)
 		}
 		if mj.Friction > 0 {
 			p.addConstraint(newSlideFriction(a, b, j.pAnchor, j.cAnchor, j.axis, mj.Friction).Constraint, jointCorrection)
@@ -365,25 +366,48 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 	return nil
 }
 
-// padSpringLength is the rest length of the spring pushing a pad out; its
-// upper anchor sits this far above the pad so the spring stays along the
-// groove.
-const padSpringLength = 0.5
-
 func (p *Plant) buildPad(foot *link, mp *models.Pad) {
-	rest := foot.local(mp.Position)
-	w := foot.world(mp.Position)
-	angle := foot.body.Angle()
-	body := p.addBody("pad "+mp.Name, mp.Mass, mp.Mass*(mp.Width*mp.Width+mp.Thickness*mp.Thickness)/12, w, angle)
-	a := foot.body
-	// Groove from full extension up to the end stop.
-	p.addConstraint(cp.NewGrooveJoint(a, body, rest, rest.Add(cp.Vector{Y: mp.Travel}), cp.Vector{}), jointCorrection)
-	p.addConstraint(cp.NewGearJoint(a, body, 0, 1), jointCorrection)
-	p.addConstraint(cp.NewDampedSpring(a, body, rest.Add(cp.Vector{Y: padSpringLength}), cp.Vector{}, padSpringLength, mp.Stiffness, mp.Damping), jointCorrection)
-	pd := pad{name: mp.Name, foot: foot, body: body, rest: rest, width: mp.Width, thickness: mp.Thickness}
-	pd.contact = newPadContact(body, foot.body, p.space.StaticBody, &p.ground, mp.Thickness, mp.Friction)
+	bottom := foot.local(models.Vec2{X: mp.Position.X, Y: mp.Position.Y - mp.Thickness/2})
+	pd := pad{name: mp.Name, foot: foot, rest: foot.local(mp.Position), width: mp.Width, thickness: mp.Thickness, travel: mp.Travel}
+	pd.contact = newPadContact(foot.body, p.space.StaticBody, &p.ground, bottom, mp)
 	p.space.AddConstraint(pd.contact.Constraint)
 	p.pads = append(p.pads, pd)
+}
+
+// linkMass gives a link's mass, inertia about its centre of mass, and that
+// centre in the link frame, with the pads of any foot on it added as
+// uniform boxes (the pads are part of their foot; parallel-axis theorem).
+func linkMass(r *models.Robot, l *models.Link) (mass, inertia float64, com models.Vec2) {
+	mass, com = l.Mass, l.CenterOfMass()
+	type part struct {
+		m, i float64
+		at   models.Vec2
+	}
+	parts := []part{{l.Mass, l.MomentOfInertia(), com}}
+	for _, f := range r.Feet {
+		if f.Link != l.Name {
+			continue
+		}
+		for _, pd := range f.Pads {
+			parts = append(parts, part{pd.Mass, pd.Mass * (pd.Width*pd.Width + pd.Thickness*pd.Thickness) / 12, pd.Position})
+		}
+	}
+	if len(parts) == 1 {
+		return mass, parts[0].i, com
+	}
+	mass, com = 0, models.Vec2{}
+	for _, q := range parts {
+		mass += q.m
+		com.X += q.m * q.at.X
+		com.Y += q.m * q.at.Y
+	}
+	com.X /= mass
+	com.Y /= mass
+	for _, q := range parts {
+		dx, dy := q.at.X-com.X, q.at.Y-com.Y
+		inertia += q.i + q.m*(dx*dx+dy*dy)
+	}
+	return mass, inertia, com
 }
 
 func (p *Plant) buildBallast(mb *models.Ballast) error {
@@ -523,7 +547,7 @@ func (p *Plant) Step() (err error) {
 	p.battery.update(current, p.dt)
 	for i := range p.pads {
 		pd := &p.pads[i]
-		pd.compression = pd.compressionNow()
+		pd.compression = math.Min(math.Max(pd.contact.depth, 0), pd.travel)
 		pd.force = pd.contact.GetImpulse() / p.dt
 	}
 	for i := range p.sensors {
@@ -632,9 +656,9 @@ func (p *Plant) centreOfPressure() (float64, bool) {
 	x, j := 0.0, 0.0
 	for i := range p.pads {
 		c := p.pads[i].contact
-		if c.active && c.jn > 0 {
-			x += c.point().X * c.jn
-			j += c.jn
+		if jn := c.GetImpulse(); jn > 0 {
+			x += c.point().X * jn
+			j += jn
 		}
 	}
 	if j <= 0 {

@@ -111,7 +111,7 @@ func (p *Plant) Snapshot(dst *Snapshot) {
 	for i := range p.pads {
 		pd := &p.pads[i]
 		c := pd.force > 0
-		s := PadState{Name: pd.name, Position: vec(pd.body.Position()), Angle: pd.body.Angle(), Width: pd.width,
+		s := PadState{Name: pd.name, Position: vec(pd.centre()), Angle: pd.foot.body.Angle(), Width: pd.width,
 			Thickness: pd.thickness, Compression: pd.compression, Force: pd.force, Contact: c}
 		if c {
 			dst.InContact = true

@@ -1,0 +1,158 @@
+package sim
+
+import (
+	"math"
+	"testing"
+
+	"github.com/jakecoffman/cp/v2"
+
+	"teeter/models"
+)
+
+// pin fixes a link's point (link frame) to the world, free to turn.
+func pin(p *Plant, linkName string, at models.Vec2) {
+	l := p.link(linkName)
+	w := l.world(at)
+	p.space.AddConstraint(cp.NewPivotJoint2(p.space.StaticBody, l.body, w, l.local(at)))
+}
+
+// clamp fixes a link to the world rigidly.
+func clamp(p *Plant, linkName string) {
+	l := p.link(linkName)
+	pin(p, linkName, models.Vec2{})
+	p.space.AddConstraint(cp.NewGearJoint(p.space.StaticBody, l.body, -l.body.Angle(), 1))
+}
+
+// pendulum is a single link hanging from its frame origin at (0, 2),
+// swung out by angle.
+func pendulum(shape models.Shape, mass, angle float64) *models.Robot {
+	return &models.Robot{Name: "pendulum", Root: "bob", NoiseScale: 1,
+		Links: []models.Link{{Name: "bob", Mass: mass, Shape: shape, Position: models.Vec2{Y: 2}, Angle: angle}}}
+}
+
+// period measures the mean time between upward zero crossings of the
+// link's angle, interpolating linearly between steps.
+func period(t *testing.T, p *Plant, link string, crossings int) float64 {
+	t.Helper()
+	b := p.link(link).body
+	var times []float64
+	prev := b.Angle()
+	for len(times) < crossings+1 {
+		if err := p.Step(); err != nil {
+			t.Fatal(err)
+		}
+		a := b.Angle()
+		if prev < 0 && a >= 0 {
+			times = append(times, p.Time()-p.dt*a/(a-prev))
+		}
+		prev = a
+		if p.Time() > 100 {
+			t.Fatal("no oscillation")
+		}
+	}
+	return (times[len(times)-1] - times[0]) / float64(crossings)
+}
+
+// largeAmplitude is the series for a pendulum's period relative to the
+// small-angle one: 1 + theta^2/16 + 11 theta^4/3072 + 173 theta^6/737280
+// (any mechanics text, e.g. the expansion of the complete elliptic integral).
+func largeAmplitude(theta float64) float64 {
+	t2 := theta * theta
+	return 1 + t2/16 + 11*t2*t2/3072 + 173*t2*t2*t2/737280
+}
+
+func TestPendulumPointBob(t *testing.T) {
+	const L = 1.0
+	for _, theta := range []float64{0.05, 0.5} {
+		// A 5 mm disc 1 m below the pivot: its own inertia changes the
+		// period by r^2/(4 L^2), about 6e-6.
+		r := pendulum(models.Shape{Kind: models.Circle, Radius: 0.005, Center: models.Vec2{Y: -L}}, 1, theta)
+		p, err := New(r, nil, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		pin(p, "bob", models.Vec2{})
+		got := period(t, p, "bob", 5)
+		// Small-angle period T0 = 2 pi sqrt(L/g) (any physics textbook).
+		want := 2 * math.Pi * math.Sqrt(L/Gravity) * largeAmplitude(theta)
+		t.Logf("period %.6f want %.6f", got, want)
+		if rel := math.Abs(got/want - 1); rel > 1e-3 {
+			t.Errorf("amplitude %.2f rad: period %.5f s, want %.5f s (off by %.3f %%)", theta, got, want, rel*100)
+		}
+	}
+}
+
+func TestPendulumRod(t *testing.T) {
+	const L, m, theta = 1.0, 2.0, 0.3
+	r := pendulum(models.Shape{Kind: models.Box, Width: 0.01, Height: L, Center: models.Vec2{Y: -L / 2}}, m, theta)
+	p, err := New(r, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	pin(p, "bob", models.Vec2{})
+	got := period(t, p, "bob", 5)
+	// Physical pendulum T = 2 pi sqrt(I/(m g d)), rod about its end
+	// I = m L^2/3, d = L/2 (any physics textbook); the 10 mm width adds
+	// w^2/(4 L^2) = 2.5e-5 to I.
+	I := m * L * L / 3
+	want := 2 * math.Pi * math.Sqrt(I/(m*Gravity*L/2)) * largeAmplitude(theta)
+	if rel := math.Abs(got/want - 1); rel > 1e-3 {
+		t.Errorf("period %.5f s, want %.5f s (off by %.3f %%)", got, want, rel*100)
+	}
+}
+
+func TestFreeFall(t *testing.T) {
+	r := pendulum(models.Shape{Kind: models.Box, Width: 0.1, Height: 0.1}, 1, 0)
+	r.Links[0].Position.Y = 10
+	p, err := New(r, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b := p.link("bob").body
+	y0 := b.Position().Y
+	if err := p.RunFor(1); err != nil {
+		t.Fatal(err)
+	}
+	// h = g t^2/2 (any physics textbook). The engine's first-order
+	// integrator is off by g t dt/2, 0.1 % here.
+	fell, want := y0-b.Position().Y, Gravity*1*1/2
+	if rel := math.Abs(fell/want - 1); rel > 2e-3 {
+		t.Errorf("fell %.5f m in 1 s, want %.5f m", fell, want)
+	}
+}
+
+func TestInvertedPendulumDivergence(t *testing.T) {
+	const L, m = 0.8, 1.5
+	// A rod standing on its lower end, pinned there, tilted 1e-4 rad.
+	r := pendulum(models.Shape{Kind: models.Box, Width: 0.01, Height: L, Center: models.Vec2{Y: L / 2}}, m, 1e-4)
+	p, err := New(r, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	pin(p, "bob", models.Vec2{})
+	b := p.link("bob").body
+	// Least-squares slope of ln(theta) against t while theta grows from
+	// 2e-3 to 3e-2 rad: late enough that cosh is exp/2 within 0.1 %,
+	// small enough that sin(theta) = theta within 0.02 %.
+	var n, st, sy, stt, sty float64
+	for b.Angle() < 0.03 {
+		if err := p.Step(); err != nil {
+			t.Fatal(err)
+		}
+		if a := b.Angle(); a > 2e-3 {
+			x, y := p.Time(), math.Log(a)
+			n, st, sy, stt, sty = n+1, st+x, sy+y, stt+x*x, sty+x*y
+		}
+		if p.Time() > 20 {
+			t.Fatal("did not diverge")
+		}
+	}
+	slope := (n*sty - st*sy) / (n*stt - st*st)
+	// Linearised theta'' = (m g l / I) theta, l = L/2, I = m L^2/3
+	// (rod about its end, any physics textbook).
+	want := math.Sqrt(m * Gravity * (L / 2) / (m * L * L / 3))
+	t.Logf("rate %.5f want %.5f", slope, want)
+	if rel := math.Abs(slope/want - 1); rel > 0.01 {
+		t.Errorf("divergence rate %.4f 1/s, want %.4f 1/s", slope, want)
+	}
+}
