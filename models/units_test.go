@@ -100,3 +100,24 @@ func TestUnitErrors(t *testing.T) {
 		t.Errorf("1 V as a current: %v", err)
 	}
 }
+
+// Any text either converts to a finite number of a known kind or gives an
+// error; it never panics (issue: bad input never crashes teeter).
+func FuzzParseQuantity(f *testing.F) {
+	for _, s := range []string{"12 mm", "0.5 deg", "2.5 kg", "30 mm/s", "200 Hz", "5 ms", "4 N*s",
+		"2 N*m/rad", "1e999 m", "NaN", "-0", "3 kg*m^2/s^2", "1 m^9", "1 /s", "7 mAh", "", "deg"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, text string) {
+		v, k, err := ParseQuantity(text)
+		if err != nil {
+			return
+		}
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			t.Fatalf("%q gave %v without an error", text, v)
+		}
+		if k.Name == "" {
+			t.Fatalf("%q gave no kind", text)
+		}
+	})
+}
