@@ -176,6 +176,14 @@ func (a *actuator) before(dt, voltage float64, nominal bool) {
 		target *= 1 - loadFrac
 	}
 	a.speed += (target - a.speed) * a.lag
+	// The lag is the motor spinning up; it does not let a screw outrun its
+	// torque-speed line against a load, so a screw driven into a locked
+	// linkage stops at stall instead of pressing on at its old speed.
+	if a.force*a.speed > 0 {
+		if most := m.NoLoadSpeed * vScale * (1 - loadFrac); math.Abs(a.speed) > most {
+			a.speed = math.Copysign(most, a.speed)
+		}
+	}
 	a.screw += a.speed * dt
 	if m.StrokeMax > m.StrokeMin {
 		if a.screw > m.StrokeMax {

@@ -82,12 +82,14 @@ func (b *ballast) position() float64 {
 	return b.body.Position().Sub(lb.LocalToWorld(b.origin)).Dot(lb.Rotation().Rotate(b.axis))
 }
 
-// Per-step fractions of position error removed by the constraints' bias.
-// cp's defaults are set for 60 Hz games; these are chosen for a 1 kHz step
-// and expressed per second as cp wants.
+// Per-step fractions of position error removed by the constraints' bias,
+// expressed per second as cp wants. cp's default is about 0.6 % per step at
+// 1 kHz. More than a few percent on the joints made the frontal robot's
+// closed loop (torso, both legs, the ground) pump energy into the hip
+// screws after a foot landed, until it blew up.
 const (
-	jointCorrection    = 0.2
-	actuatorCorrection = 0.3
+	jointCorrection    = 0.01
+	actuatorCorrection = 0.1
 )
 
 func errorBias(fraction, rate float64) float64 { return math.Pow(1-fraction, rate) }

@@ -20,7 +20,7 @@ func pin(p *Plant, linkName string, at models.Vec2) {
 func clamp(p *Plant, linkName string) {
 	l := p.link(linkName)
 	pin(p, linkName, models.Vec2{})
-	p.space.AddConstraint(cp.NewGearJoint(p.space.StaticBody, l.body, -l.body.Angle(), 1))
+	p.space.AddConstraint(cp.NewGearJoint(p.space.StaticBody, l.body, l.body.Angle(), 1))
 }
 
 // pendulum is a single link hanging from its frame origin at (0, 2),

@@ -1,0 +1,164 @@
+package sim
+
+import (
+	"math"
+	"testing"
+
+	"teeter/models"
+)
+
+// constant commands every actuator with the same duty.
+type constant float64
+
+func (constant) Reset() {}
+func (c constant) Tick(now float64, readings, commands []float64) {
+	for i := range commands {
+		commands[i] = float64(c)
+	}
+}
+
+// slider is a base (to be clamped to the world) with a carriage on a
+// prismatic joint along axis, driven by a lead screw on the joint.
+func slider(carriage float64, axis models.Vec2, kind models.ActuatorKind, backlash, friction, volts float64) *models.Robot {
+	r := &models.Robot{Name: "slider", Root: "base", NoiseScale: 1,
+		Links: []models.Link{
+			{Name: "base", Mass: 5, Shape: models.Shape{Kind: models.Box, Width: 0.3, Height: 0.05}, Position: models.Vec2{Y: 1}},
+			{Name: "carriage", Mass: carriage, Shape: models.Shape{Kind: models.Box, Width: 0.05, Height: 0.05}},
+		},
+		Joints: []models.Joint{{Name: "rail", Kind: models.Prismatic, Parent: "base", Child: "carriage", Axis: axis,
+			HasLimits: true, Lower: -0.2, Upper: 0.2, Friction: friction}},
+		Actuators: []models.Actuator{{Name: "screw", Kind: kind, Joint: "rail", Linear: true,
+			NominalVoltage: 12, NoLoadSpeed: 0.02, StallForce: 400, TimeConstant: 0.01,
+			StrokeMin: -0.15, StrokeMax: 0.15, Backlash: backlash, NoLoadCurrent: 0.3, StallCurrent: 4}},
+	}
+	if volts > 0 {
+		r.Battery = &models.Battery{FullVoltage: volts, EmptyVoltage: volts / 2, Capacity: 1e9, InitialCharge: 1}
+	}
+	return r
+}
+
+func newClamped(t *testing.T, r *models.Robot, c Controller) *Plant {
+	t.Helper()
+	p, err := New(r, c, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	clamp(p, "base")
+	return p
+}
+
+// screwSpeed runs for 0.3 s, then measures the screw's and the output's
+// mean speed over the next 0.5 s.
+func screwSpeed(t *testing.T, p *Plant) (screw, output float64) {
+	t.Helper()
+	a := &p.acts[0]
+	if err := p.RunFor(0.3); err != nil {
+		t.Fatal(err)
+	}
+	s0, o0 := a.screw, a.output()
+	if err := p.RunFor(0.5); err != nil {
+		t.Fatal(err)
+	}
+	return (a.screw - s0) / 0.5, (a.output() - o0) / 0.5
+}
+
+func TestLeadScrewSpeed(t *testing.T) {
+	// A DC motor's speed-torque line (any electric machines text): the
+	// no-load speed is proportional to the supply voltage and the speed
+	// falls linearly with load to zero at stall.
+	horizontal := models.Vec2{X: 1}
+	for _, volts := range []float64{12, 6} {
+		p := newClamped(t, slider(0.5, horizontal, models.LeadScrew, 0, 0, volts), constant(1))
+		screw, output := screwSpeed(t, p)
+		want := 0.02 * volts / 12
+		if math.Abs(screw/want-1) > 0.01 || math.Abs(output/want-1) > 0.01 {
+			t.Errorf("%g V: screw %.5f m/s, output %.5f m/s, want %.5f m/s", volts, screw, output, want)
+		}
+	}
+	// Lifting a weight of half the stall force: half the no-load speed.
+	m := 200 / Gravity
+	p := newClamped(t, slider(m, models.Vec2{Y: 1}, models.LeadScrew, 0, 0, 0), constant(1))
+	screw, _ := screwSpeed(t, p)
+	if want := 0.01; math.Abs(screw/want-1) > 0.02 {
+		t.Errorf("lifting 200 N: %.5f m/s, want %.5f m/s", screw, want)
+	}
+	if f := p.acts[0].force; math.Abs(f/200-1) > 0.02 {
+		t.Errorf("lifting 200 N: load read as %.2f N", f)
+	}
+}
+
+func TestLeadScrewHoldsUnpowered(t *testing.T) {
+	// 50 kg hanging on a vertical screw, above its 400 N stall force: a
+	// lead screw is not backdrivable, so it stays put; a torque motor
+	// without power lets it fall (the comparison shows the test can fail).
+	for _, kind := range []models.ActuatorKind{models.LeadScrew, models.TorqueMotor} {
+		p := newClamped(t, slider(50, models.Vec2{Y: 1}, kind, 0, 0, 0), nil)
+		a := &p.acts[0]
+		s0, o0 := a.screw, a.output()
+		if err := p.RunFor(0.1); err != nil {
+			t.Fatal(err)
+		}
+		moved := math.Abs(a.output() - o0)
+		if kind == models.LeadScrew {
+			if a.screw != s0 || moved > 1e-5 {
+				t.Errorf("lead screw under 490 N, unpowered: screw moved %g m, output %g m", a.screw-s0, moved)
+			}
+			// Free fall would drop g t^2/2 = 49 mm in 0.1 s.
+		} else if moved < 0.04 {
+			t.Errorf("unpowered torque motor held 490 N: moved %g m", moved)
+		}
+	}
+}
+
+func TestBacklash(t *testing.T) {
+	const b = 0.002
+	// Friction on the rail holds the carriage wherever the screw leaves it.
+	p := newClamped(t, slider(0.5, models.Vec2{X: 1}, models.LeadScrew, b, 2, 0), nil)
+	a := &p.acts[0]
+	s0 := a.screw
+	// Push the carriage: it swings freely through the play and stops at
+	// the edge, half the backlash from the screw (the definition of
+	// backlash: free play b, centred on the screw).
+	if err := p.Shove(Shove{Link: "carriage", Impulse: models.Vec2{X: 0.05}}); err != nil {
+		t.Fatal(err)
+	}
+	maxGap := 0.0
+	for range 300 {
+		if err := p.Step(); err != nil {
+			t.Fatal(err)
+		}
+		maxGap = math.Max(maxGap, a.gap())
+	}
+	if a.screw != s0 {
+		t.Fatalf("screw moved %g m under a push", a.screw-s0)
+	}
+	if math.Abs(maxGap-b/2) > 2e-5 || math.Abs(a.gap()-b/2) > 2e-5 {
+		t.Errorf("after a push the gap reached %.6f m and rests at %.6f m, want the edge at %.6f m", maxGap, a.gap(), b/2)
+	}
+	// Drive the screw towards the carriage: the output stays while the
+	// screw crosses the play, then is pushed along on the other edge.
+	p.SetController(constant(1))
+	out0 := a.output()
+	for a.screw < s0+b-1e-4 {
+		if err := p.Step(); err != nil {
+			t.Fatal(err)
+		}
+		if moved := math.Abs(a.output() - out0); moved > 1e-5 {
+			t.Fatalf("output moved %g m with the screw %g m into the play of %g m", moved, s0-a.screw, b)
+		}
+	}
+	if err := p.RunFor(0.5); err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(a.gap()+b/2) > 2e-5 {
+		t.Errorf("driven across the play, gap %.6f m, want %.6f m", a.gap(), -b/2)
+	}
+	_, output := screwSpeed(t, p)
+	if math.Abs(output/0.02-1) > 0.01 {
+		t.Errorf("output follows at %.5f m/s, want 0.02", output)
+	}
+	// The load on the edge is the rail's friction.
+	if math.Abs(a.force/2-1) > 0.05 {
+		t.Errorf("load at the edge %.3f N, want the 2 N of friction", a.force)
+	}
+}
