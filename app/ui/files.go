@@ -15,7 +15,6 @@ import (
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/driver/software"
-	"git.sr.ht/~sbinet/gg"
 
 	"teeter/control"
 	"teeter/models"
@@ -290,9 +289,9 @@ func (w *Window) ExportCSV(path string) error {
 
 // ExportPlotPNG writes the plots as they are shown, at 1200 x 800 pixels.
 func (w *Window) ExportPlotPNG(path string) error {
-	dc := gg.NewContext(1200, 800)
-	w.traces.draw(dc, 1200, 800)
-	return savePNG(path, dc.Image())
+	img := image.NewRGBA(image.Rect(0, 0, 1200, 800))
+	w.traces.draw(img)
+	return savePNG(path, img)
 }
 
 // Capture writes a picture of the whole window as PNG. Where the graphics

@@ -85,6 +85,7 @@ func (rv *robotView) render(w, h int) image.Image {
 	if rv.img == nil || rv.img.Bounds().Dx() != w || rv.img.Bounds().Dy() != h {
 		rv.img = image.NewRGBA(image.Rect(0, 0, w, h))
 		rv.dc = gg.NewContextForRGBA(rv.img)
+		rv.dc.SetFontFace(newTextFace(14))
 	}
 	rv.v = rv.currentView(w, h)
 	if rv.sc == nil {

@@ -11,7 +11,7 @@ import (
 	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/widget"
-	"git.sr.ht/~sbinet/gg"
+	"golang.org/x/image/font"
 
 	"teeter/sim/live"
 )
@@ -61,7 +61,7 @@ type tracesView struct {
 	widget.BaseWidget
 	raster *canvas.Raster
 	img    *image.RGBA
-	dc     *gg.Context
+	face   font.Face
 
 	names   []string // every recorded signal
 	shown   []int    // indices of the signals drawn, one strip each
@@ -111,30 +111,32 @@ func (tv *tracesView) render(w, h int) image.Image {
 	}
 	if tv.img == nil || tv.img.Bounds().Dx() != w || tv.img.Bounds().Dy() != h {
 		tv.img = image.NewRGBA(image.Rect(0, 0, w, h))
-		tv.dc = gg.NewContextForRGBA(tv.img)
 	}
-	tv.draw(tv.dc, w, h)
+	tv.draw(tv.img)
 	return tv.img
 }
 
-// draw paints every strip into dc.
-func (tv *tracesView) draw(dc *gg.Context, w, h int) {
-	dc.SetColor(colPlotBack)
-	dc.Clear()
+// draw paints every strip into img. Lines and text go straight into the
+// pixels: a path rasterizer costs too much for a plot redrawn every frame.
+func (tv *tracesView) draw(img *image.RGBA) {
+	w, h := img.Rect.Dx(), img.Rect.Dy()
+	if tv.face == nil {
+		tv.face = newTextFace(12)
+	}
+	fillRect(img, 0, 0, w, h, colPlotBack)
 	n := len(tv.shown)
 	if n == 0 {
-		dc.SetColor(colPlotText)
-		dc.DrawStringAnchored("No signals chosen: use Signals to pick some.", float64(w)/2, float64(h)/2, 0.5, 0.5)
+		drawText(img, tv.face, "No signals chosen: use Signals to pick some.", float64(w)/2, float64(h)/2, 0.5, colPlotText)
 		return
 	}
-	const axis = 16.0
+	const axis = 18.0
 	stripH := (float64(h) - axis) / float64(n)
 	t1 := tv.now
 	t0 := t1 - tv.window
 	x0, x1 := plotLeft, float64(w)-plotRight
 	tx := func(t float64) float64 { return x0 + (t-t0)/(t1-t0)*(x1-x0) }
-	if cap(tv.cols) < w {
-		tv.cols = make([]colRange, w)
+	if cap(tv.cols) < w+1 {
+		tv.cols = make([]colRange, w+1)
 	}
 	for k := range n {
 		top := float64(k) * stripH
@@ -166,66 +168,51 @@ func (tv *tracesView) draw(dc *gg.Context, w, h int) {
 		}
 		pad := (hi - lo) * 0.08
 		lo, hi = lo-pad, hi+pad
-		ty := func(v float64) float64 { return bottom - (v-lo)/(hi-lo)*(bottom-top-14) }
-		// Strip frame and a zero line when zero is in range.
-		dc.SetColor(colPlotGrid)
-		dc.SetLineWidth(1)
-		dc.DrawLine(x0, bottom+2, x1, bottom+2)
-		dc.Stroke()
+		ty := func(v float64) float64 { return bottom - (v-lo)/(hi-lo)*(bottom-top-16) }
+		hline(img, int(x0), int(x1), int(bottom+2), colPlotGrid, 0)
 		if lo < 0 && hi > 0 {
-			dc.SetDash(3, 3)
-			dc.DrawLine(x0, ty(0), x1, ty(0))
-			dc.Stroke()
-			dc.SetDash()
+			hline(img, int(x0), int(x1), int(ty(0)), colPlotGrid, 3)
 		}
 		col := traceColors[k%len(traceColors)]
 		if tv.hasRef {
-			tv.strokeSeries(dc, &tv.ref, k, tx, ty, colReference, w)
+			tv.strokeSeries(img, &tv.ref, k, tx, ty, colReference, w)
 		}
-		tv.strokeSeries(dc, &tv.data, k, tx, ty, col, w)
+		tv.strokeSeries(img, &tv.data, k, tx, ty, col, w)
 		// Legend: name, unit, latest value and the range shown.
 		name := tv.names[tv.shown[k]]
-		unit := signalUnit(name)
 		label := name
-		if unit != "" {
+		if unit := signalUnit(name); unit != "" {
 			label += " [" + unit + "]"
 		}
 		if m := len(tv.data.Time); m > 0 && k < len(tv.data.Values) {
-			label += fmt.Sprintf("  %.4g", tv.data.Values[k][m-1])
+			label += fmt.Sprintf("   %.4g", tv.data.Values[k][m-1])
 		}
-		dc.SetColor(col)
-		dc.DrawString(label, x0+2, top+11)
-		dc.SetColor(colPlotText)
-		dc.DrawStringAnchored(fmt.Sprintf("%.3g to %.3g", lo, hi), x1-2, top+11, 1, 0)
+		drawText(img, tv.face, label, x0+2, top+12, 0, col)
+		drawText(img, tv.face, fmt.Sprintf("%.3g to %.3g", lo, hi), x1-2, top+12, 1, colPlotText)
 		if tv.pointer >= x0 && tv.pointer <= x1 {
 			t := t0 + (tv.pointer-x0)/(x1-x0)*(t1-t0)
 			if v, ok := valueAt(&tv.data, k, t); ok {
-				dc.SetColor(colPlotText)
-				dc.DrawStringAnchored(fmt.Sprintf("%.4g at %.3f s", v, t), tv.pointer+4, bottom-4, 0, 0)
+				drawText(img, tv.face, fmt.Sprintf("%.4g at %.3f s", v, t), tv.pointer+4, bottom-4, 0, colPlotText)
 			}
 		}
 	}
 	// Time axis.
-	dc.SetColor(colPlotText)
 	step := niceStep(tv.window / 6)
 	for t := math.Ceil(t0/step) * step; t <= t1; t += step {
 		x := tx(t)
-		dc.DrawLine(x, float64(h)-axis, x, float64(h)-axis+3)
-		dc.Stroke()
-		dc.DrawStringAnchored(fmt.Sprintf("%g s", math.Round(t*1000)/1000), x, float64(h)-2, 0.5, 0)
+		vline(img, int(x), h-int(axis), h-int(axis)+4, colPlotText, 0)
+		drawText(img, tv.face, fmt.Sprintf("%g s", math.Round(t*1000)/1000), math.Max(x, 14), float64(h)-3, 0.5, colPlotText)
 	}
 	if tv.pointer >= x0 && tv.pointer <= x1 {
-		dc.SetColor(colPlotText)
-		dc.SetDash(2, 2)
-		dc.DrawLine(tv.pointer, 0, tv.pointer, float64(h)-axis)
-		dc.Stroke()
-		dc.SetDash()
+		vline(img, int(tv.pointer), 0, h-int(axis), colPlotText, 2)
 	}
 }
 
 // strokeSeries draws one series, reduced to the least and greatest value in
-// each pixel column so that long windows cost what the width costs.
-func (tv *tracesView) strokeSeries(dc *gg.Context, tr *live.Trace, k int, tx, ty func(float64) float64, col color.Color, w int) {
+// each pixel column and painted straight into the image as vertical spans
+// joined column to column: a long window costs what the width costs, and no
+// path rasterizer is involved.
+func (tv *tracesView) strokeSeries(img *image.RGBA, tr *live.Trace, k int, tx, ty func(float64) float64, col color.RGBA, w int) {
 	if k >= len(tr.Values) || len(tr.Time) == 0 {
 		return
 	}
@@ -248,28 +235,39 @@ func (tv *tracesView) strokeSeries(dc *gg.Context, tr *live.Trace, k int, tx, ty
 		c.lo, c.hi = math.Min(c.lo, v), math.Max(c.hi, v)
 		first, last = min(first, x), max(last, x)
 	}
-	if last < 0 {
-		return
-	}
-	dc.SetColor(col)
-	dc.SetLineWidth(1.5)
-	started := false
+	prev := math.NaN()
 	for x := first; x <= last; x++ {
 		c := cols[x]
 		if math.IsInf(c.lo, 0) {
 			continue
 		}
-		if !started {
-			dc.MoveTo(float64(x), ty(c.lo))
-			started = true
-		} else {
-			dc.LineTo(float64(x), ty(c.lo))
+		top, bottom := ty(c.hi), ty(c.lo)
+		if !math.IsNaN(prev) {
+			// Join to the previous column's last value.
+			top, bottom = math.Min(top, prev), math.Max(bottom, prev)
 		}
-		if c.hi != c.lo {
-			dc.LineTo(float64(x), ty(c.hi))
-		}
+		prev = (ty(c.lo) + ty(c.hi)) / 2
+		span(img, x, int(math.Floor(top)), int(math.Ceil(bottom)), col, 255)
+		span(img, x+1, int(math.Floor(top)), int(math.Ceil(bottom)), col, 110)
 	}
-	dc.Stroke()
+}
+
+// span blends a vertical run of pixels y0..y1 at column x with colour c at
+// alpha a.
+func span(img *image.RGBA, x, y0, y1 int, c color.RGBA, a uint32) {
+	b := img.Bounds()
+	if x < b.Min.X || x >= b.Max.X {
+		return
+	}
+	y0, y1 = max(y0, b.Min.Y), min(y1, b.Max.Y-1)
+	for y := y0; y <= y1; y++ {
+		i := img.PixOffset(x, y)
+		p := img.Pix[i : i+4 : i+4]
+		p[0] = uint8((uint32(c.R)*a + uint32(p[0])*(255-a)) / 255)
+		p[1] = uint8((uint32(c.G)*a + uint32(p[1])*(255-a)) / 255)
+		p[2] = uint8((uint32(c.B)*a + uint32(p[2])*(255-a)) / 255)
+		p[3] = 255
+	}
 }
 
 func valueAt(tr *live.Trace, k int, t float64) (float64, bool) {
