@@ -100,6 +100,7 @@ type padContact struct {
 	depth                    float64 // of the extended bottom below the ground, last step
 	active, touching, atStop bool
 	r, n                     cp.Vector
+	knn, knt, ktt            float64 // inverse effective mass matrix in (n, t)
 	nMass, tMass, dampMass   float64
 	dampGamma, stopBias      float64
 	js, jd, jh, jt           float64 // spring, damper, stop and friction impulses
@@ -128,9 +129,11 @@ func (c *padContact) PreStep(dt float64) {
 	}
 	c.r, c.n = p.Sub(b.Position()), n
 	rn, rt := c.r.Cross(n), c.r.Cross(n.Perp())
-	kn := 1/b.Mass() + rn*rn/b.Moment()
+	mInv, iInv := 1/b.Mass(), 1/b.Moment()
+	kn := mInv + rn*rn*iInv
+	c.knn, c.knt, c.ktt = kn, rn*rt*iInv, mInv+rt*rt*iInv
 	c.nMass = 1 / kn
-	c.tMass = 1 / (1/b.Mass() + rt*rt/b.Moment())
+	c.tMass = 1 / c.ktt
 	if c.touching {
 		// Spring: explicit, applied now.
 		c.js = c.stiffness * d * dt
@@ -173,34 +176,45 @@ func (c *padContact) ApplyCachedImpulse(dtCoef float64) {
 	c.impulse(c.n.Rotate(cp.Vector{X: c.jd + c.jh, Y: c.jt}))
 }
 
-func (c *padContact) normalVelocity() (float64, float64) {
-	b := c.foot
-	vr := b.Velocity().Add(c.r.Perp().Mult(b.AngularVelocity()))
-	return vr.Dot(c.n), vr.Dot(c.n.Perp())
-}
-
+// ApplyImpulse solves the damper, the stop and friction in turn, tracking
+// the contact point's velocity through the effective-mass matrix and
+// applying the sum once: each cp body setter is a call.
 func (c *padContact) ApplyImpulse(dt float64) {
 	if !c.active {
 		return
 	}
+	b := c.foot
+	vr := b.Velocity().Add(c.r.Perp().Mult(b.AngularVelocity()))
+	vn, vt := vr.Dot(c.n), vr.Dot(c.n.Perp())
+	var dn, dt2 float64 // impulse changes along n and t
 	if c.touching && c.damping > 0 {
-		vn, _ := c.normalVelocity()
 		old := c.jd
 		// The pad cannot pull: spring and damper together push or nothing.
-		c.jd = math.Max(old-c.dampMass*(vn+c.dampGamma*old), -c.js)
-		c.impulse(c.n.Mult(c.jd - old))
+		c.jd = old - c.dampMass*(vn+c.dampGamma*old)
+		if c.jd < -c.js {
+			c.jd = -c.js
+		}
+		d := c.jd - old
+		dn += d
+		vn += c.knn * d
+		vt += c.knt * d
 	}
 	if c.atStop {
-		vn, _ := c.normalVelocity()
 		old := c.jh
-		c.jh = math.Max(old+(c.stopBias-vn)*c.nMass, 0)
-		c.impulse(c.n.Mult(c.jh - old))
+		c.jh = old + (c.stopBias-vn)*c.nMass
+		if c.jh < 0 {
+			c.jh = 0
+		}
+		d := c.jh - old
+		dn += d
+		vn += c.knn * d
+		vt += c.knt * d
 	}
-	_, vt := c.normalVelocity()
 	max := c.friction * (c.js + c.jd + c.jh)
 	old := c.jt
 	c.jt = cp.Clamp(old-vt*c.tMass, -max, max)
-	c.impulse(c.n.Perp().Mult(c.jt - old))
+	dt2 = c.jt - old
+	c.impulse(c.n.Rotate(cp.Vector{X: dn, Y: dt2}))
 }
 
 // GetImpulse is the normal impulse of the last step.
@@ -394,12 +408,18 @@ func (l *screwLimit) ApplyCachedImpulse(dtCoef float64) {
 }
 
 func (l *screwLimit) ApplyImpulse(dt float64) {
-	old := l.jLo
-	l.jLo = math.Max(old+(l.biasLo-l.velocity())*l.mass, 0)
-	l.impulse(l.jLo - old)
-	old = l.jHi
-	l.jHi = math.Min(old+(l.biasHi-l.velocity())*l.mass, 0)
-	l.impulse(l.jHi - old)
+	v := l.velocity()
+	oldLo, oldHi := l.jLo, l.jHi
+	l.jLo = oldLo + (l.biasLo-v)*l.mass
+	if l.jLo < 0 {
+		l.jLo = 0
+	}
+	v += (l.jLo - oldLo) / l.mass
+	l.jHi = oldHi + (l.biasHi-v)*l.mass
+	if l.jHi > 0 {
+		l.jHi = 0
+	}
+	l.impulse(l.jLo - oldLo + l.jHi - oldHi)
 }
 
 // GetImpulse is the signed impulse of the last step along +q.

@@ -240,7 +240,7 @@ func (p *Plant) build() error {
 	r := p.robot
 	p.space = cp.NewSpace()
 	p.space.SetGravity(cp.Vector{Y: -Gravity})
-	p.space.Iterations = 20
+	p.space.Iterations = 10
 	p.ground = newGround(r.Ground.Tilt, r.Ground.StepX, r.Ground.StepHeight)
 	poses, err := initialPoses(r, &p.ground)
 	if err != nil {
