@@ -257,27 +257,29 @@ func (w *Window) ExportHeader(path string) error {
 
 // ExportCSV writes every recorded signal of the rolling trace.
 func (w *Window) ExportCSV(path string) error {
-	names := w.run.SignalNames()
-	idx := make([]int, len(names))
-	for i := range idx {
-		idx[i] = i
+	names, units := w.run.SignalNames(), w.run.SignalUnits()
+	var idx []int
+	for i, n := range names {
+		if n != "time" { // the trace's own time comes first
+			idx = append(idx, i)
+		}
 	}
 	var tr live.Trace
 	w.run.Recent(&tr, 1e9, idx)
 	return writeFileAtomic(path, func(wr io.Writer) error {
 		bw := bufio.NewWriter(wr)
 		bw.WriteString("time [s]")
-		for _, n := range names {
+		for _, i := range idx {
 			bw.WriteString(",")
-			bw.WriteString(n)
-			if u := signalUnit(n); u != "" {
+			bw.WriteString(names[i])
+			if u := unitOf(names, units, i); u != "" {
 				bw.WriteString(" [" + u + "]")
 			}
 		}
 		bw.WriteString("\n")
 		for i, t := range tr.Time {
 			bw.WriteString(strconv.FormatFloat(t, 'g', -1, 64))
-			for k := range names {
+			for k := range idx {
 				bw.WriteString(",")
 				bw.WriteString(strconv.FormatFloat(tr.Values[k][i], 'g', -1, 64))
 			}

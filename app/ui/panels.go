@@ -77,8 +77,10 @@ func (row *gainRow) object(w *Window) fyne.CanvasObject {
 	if unit == "" {
 		unit = "—"
 	}
-	top := container.NewBorder(nil, nil, name, container.NewHBox(widget.NewLabel(unit), back), row.slider)
-	return container.NewVBox(top, row.field.object())
+	entry := container.NewGridWrap(fyne.NewSize(120, row.field.Entry.MinSize().Height), row.field.Entry)
+	nameBox := container.NewGridWrap(fyne.NewSize(130, name.MinSize().Height), name)
+	top := container.NewBorder(nil, nil, nameBox, container.NewHBox(entry, widget.NewLabel(unit), back), row.slider)
+	return container.NewVBox(top, row.field.Reason)
 }
 
 // show moves the row's controls to v without sending anything.

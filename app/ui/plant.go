@@ -81,10 +81,19 @@ func (s *simPlant) Step() error {
 	return nil
 }
 
-func (s *simPlant) Time() float64                 { return s.p.Time() }
-func (s *simPlant) Shove(sh sim.Shove) error      { return s.p.Shove(sh) }
-func (s *simPlant) Snapshot(dst *sim.Snapshot)    { s.p.Snapshot(dst) }
-func (s *simPlant) SignalNames() []string         { return append([]string(nil), s.rec.Columns()...) }
+func (s *simPlant) Time() float64              { return s.p.Time() }
+func (s *simPlant) Shove(sh sim.Shove) error   { return s.p.Shove(sh) }
+func (s *simPlant) Snapshot(dst *sim.Snapshot) { s.p.Snapshot(dst) }
+func (s *simPlant) SignalNames() []string      { return append([]string(nil), s.rec.Columns()...) }
+
+// SignalUnits gives the recorder's unit of each column.
+func (s *simPlant) SignalUnits() []string {
+	units := make([]string, len(s.rec.Columns()))
+	for i := range units {
+		units[i] = s.rec.Unit(i)
+	}
+	return units
+}
 func (s *simPlant) Fall() (bool, string, float64) { f, ok := s.p.Fall(); return ok, f.Reason, f.Time }
 
 // Signals copies the latest recorder row.

@@ -32,6 +32,15 @@ var signalMeanings = []struct{ Suffix, Unit, Meaning string }{
 	{"battery", "V", "battery terminal voltage"},
 }
 
+// unitOf is the unit of signal i: the plant's own when it gives units,
+// else a guess from the name.
+func unitOf(names, units []string, i int) string {
+	if i < len(units) {
+		return units[i]
+	}
+	return signalUnit(names[i])
+}
+
 func signalUnit(name string) string {
 	for _, m := range signalMeanings {
 		if strings.HasSuffix(name, m.Suffix) || strings.HasPrefix(name, m.Suffix) {
@@ -64,6 +73,7 @@ type tracesView struct {
 	face   font.Face
 
 	names   []string // every recorded signal
+	units   []string // their units, when the plant gives them
 	shown   []int    // indices of the signals drawn, one strip each
 	window  float64  // s
 	now     float64  // the time at the right edge
@@ -179,9 +189,8 @@ func (tv *tracesView) draw(img *image.RGBA) {
 		}
 		tv.strokeSeries(img, &tv.data, k, tx, ty, col, w)
 		// Legend: name, unit, latest value and the range shown.
-		name := tv.names[tv.shown[k]]
-		label := name
-		if unit := signalUnit(name); unit != "" {
+		label := tv.names[tv.shown[k]]
+		if unit := unitOf(tv.names, tv.units, tv.shown[k]); unit != "" {
 			label += " [" + unit + "]"
 		}
 		if m := len(tv.data.Time); m > 0 && k < len(tv.data.Values) {

@@ -386,6 +386,7 @@ func (w *Window) refresh() {
 		w.shown = defaultSignals(names)
 	}
 	w.traces.names = names
+	w.traces.units = w.run.SignalUnits()
 	idx := w.traces.shown[:0]
 	for _, s := range w.shown {
 		for i, n := range names {

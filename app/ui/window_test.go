@@ -361,3 +361,81 @@ func BenchmarkFrame(b *testing.B) {
 		w.traces.render(800, 420)
 	}
 }
+
+func TestGainFilesRoundTripAndBadOnesChangeNothing(t *testing.T) {
+	w, _ := openTest(t, "builtin:frontal")
+	p := w.params[0]
+	dir := t.TempDir()
+	path := filepath.Join(dir, "gains.yaml")
+	if err := w.SaveGains(path); err != nil {
+		t.Fatal(err)
+	}
+	w.setGain(p.Path, p.Value+0.5, false)
+	if err := w.LoadGains(path); err != nil {
+		t.Fatal(err)
+	}
+	if got, _ := w.run.Gain(p.Path); got != p.Value {
+		t.Fatalf("after loading the saved set %s is %g, want %g", p.Path, got, p.Value)
+	}
+	// A set naming a missing parameter is refused whole.
+	w.setGain(p.Path, p.Value+1, false)
+	bad := filepath.Join(dir, "bad.yaml")
+	if err := w.SaveGains(bad); err != nil {
+		t.Fatal(err)
+	}
+	w.setGain(p.Path, p.Value, false)
+	data, _ := os.ReadFile(bad)
+	data = append(data, []byte("  \"no_such_block.kp\": 1\n")...)
+	if err := os.WriteFile(bad, data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.LoadGains(bad); err == nil {
+		t.Fatal("a gain set with an unknown parameter loaded")
+	}
+	if got, _ := w.run.Gain(p.Path); got != p.Value {
+		t.Fatalf("a refused gain set changed %s to %g", p.Path, got)
+	}
+}
+
+func TestExportsWriteWholeFiles(t *testing.T) {
+	w, _ := openTest(t, "builtin:pendulum")
+	for range 20 {
+		if err := <-w.run.StepOnce(); err != nil {
+			t.Fatal(err)
+		}
+	}
+	dir := t.TempDir()
+	csv := filepath.Join(dir, "t.csv")
+	if err := w.ExportCSV(csv); err != nil {
+		t.Fatal(err)
+	}
+	data, _ := os.ReadFile(csv)
+	lines := strings.Split(strings.TrimSpace(string(data)), "\n")
+	// A header and a row at the start and then every k-th tick, where k
+	// ticks of the controller (rate from its file) make at least the
+	// trace's 5 ms sample interval.
+	k := int(math.Ceil(w.spec.Rate/200 - 1e-9))
+	if want := 1 + 20/max(k, 1) + 1; len(lines) != want || !strings.HasPrefix(lines[0], "time [s],") {
+		t.Fatalf("CSV has %d lines, header %q; want %d and a time column", len(lines), lines[0], want)
+	}
+	if n := strings.Count(lines[0], ","); strings.Count(lines[len(lines)-1], ",") != n {
+		t.Fatal("rows and header have different numbers of columns")
+	}
+	header := filepath.Join(dir, "g.h")
+	if err := w.ExportHeader(header); err != nil {
+		t.Fatal(err)
+	}
+	if h, _ := os.ReadFile(header); !strings.Contains(string(h), "static const float") {
+		t.Fatalf("firmware header without constants:\n%s", h)
+	}
+	png := filepath.Join(dir, "p.png")
+	if err := w.ExportPlotPNG(png); err != nil {
+		t.Fatal(err)
+	}
+	if fi, err := os.Stat(png); err != nil || fi.Size() < 1000 {
+		t.Fatalf("plot PNG: %v", err)
+	}
+	if left, _ := filepath.Glob(filepath.Join(dir, ".*.tmp")); len(left) != 0 {
+		t.Fatalf("temporary files left: %v", left)
+	}
+}

@@ -96,6 +96,7 @@ type Runner[S any] struct {
 	mu       sync.Mutex
 	status   Status
 	names    []string
+	units    []string
 	trace    *rolling
 	ref      *rolling
 	fresh    *S // published by the goroutine, waiting for the reader
@@ -183,6 +184,10 @@ func (r *Runner[S]) rebuild() error {
 		}
 	}
 	names := plant.SignalNames()
+	var units []string
+	if u, ok := plant.(interface{ SignalUnits() []string }); ok {
+		units = u.SignalUnits()
+	}
 	r.plant, r.tuner = plant, tuner
 	r.nextShove = 0
 	r.sample = make([]float64, len(names))
@@ -198,7 +203,7 @@ func (r *Runner[S]) rebuild() error {
 	} else {
 		r.trace.clear()
 	}
-	r.names = names
+	r.names, r.units = names, units
 	r.status.Time = plant.Time()
 	r.status.Fallen, r.status.FallReason, r.status.FallTime = false, "", 0
 	r.status.Err = nil
@@ -617,6 +622,14 @@ func (r *Runner[S]) SignalNames() []string {
 	r.mu.Lock()
 	defer r.mu.Unlock()
 	return append([]string(nil), r.names...)
+}
+
+// SignalUnits gives the SI unit of each signal when the plant tells them
+// (a plant with a SignalUnits method), else nil.
+func (r *Runner[S]) SignalUnits() []string {
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	return append([]string(nil), r.units...)
 }
 
 // Trace is a copy of part of a recorded run: sample times and the values
