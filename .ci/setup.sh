@@ -6,7 +6,7 @@ set -euo pipefail
 # The C libraries fyne's OpenGL driver links against, pkg-config to find them,
 # and a virtual X server for the screenshot test.
 debs=(gcc pkg-config libgl1-mesa-dev libxcursor-dev libxrandr-dev libxinerama-dev
-	libxi-dev libxxf86vm-dev xvfb)
+	libxi-dev libxxf86vm-dev libgl1-mesa-dri xvfb xauth)
 
 if ! command -v go >/dev/null 2>&1; then
 	echo "teeter needs Go 1.26 or newer on the PATH (https://go.dev/doc/install)." >&2

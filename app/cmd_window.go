@@ -1,0 +1,46 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"time"
+
+	fyneapp "fyne.io/fyne/v2/app"
+
+	"teeter/app/ui"
+	"teeter/models"
+)
+
+func init() {
+	commands = append(commands, command{"window", "open the window (the default when no command is given)", cmdWindow})
+}
+
+func cmdWindow(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("window", stderr)
+	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
+	gains := fs.String("gains", "", "gain set file applied at the start")
+	screenshot := fs.String("screenshot", "", "render the window to this PNG file and exit")
+	afterText := fs.String("after", "3s", "with --screenshot: how long to run before the picture")
+	if err := parseFlags(fs, args); err != nil {
+		return err
+	}
+	after, _, err := models.ParseQuantity(*afterText, models.Duration)
+	if err != nil || after < 0 {
+		return usageError{fmt.Errorf("--after %q: want a duration such as 3s", *afterText)}
+	}
+	a := fyneapp.NewWithID("org.teeter.sim")
+	w, err := ui.New(a, ui.Options{Model: *model, Gains: *gains, Run: *screenshot == ""})
+	if err != nil {
+		return err
+	}
+	defer w.Close()
+	if *screenshot != "" {
+		if err := w.ShowAndCapture(*screenshot, time.Duration(after*float64(time.Second))); err != nil {
+			return err
+		}
+		fmt.Fprintf(stdout, "wrote %s\n", *screenshot)
+		return nil
+	}
+	w.ShowAndRun()
+	return nil
+}
