@@ -84,4 +84,3 @@ func near(a, b color.RGBA) bool {
 	}
 	return d(a.R, b.R) < 8 && d(a.G, b.G) < 8 && d(a.B, b.B) < 8
 }
-
