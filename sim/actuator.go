@@ -46,7 +46,6 @@ type actuator struct {
 	speed    float64 // screw speed
 	force    float64 // force or torque delivered on the output, + along +position
 	current  float64 // A
-	edge     float64 // screw position as seen by the output this step (after the mount's give)
 }
 
 func (p *Plant) buildActuator(m *models.Actuator, a *actuator) error {
@@ -112,6 +111,7 @@ func (p *Plant) buildActuator(m *models.Actuator, a *actuator) error {
 		c.geometry, c.axis = limitAxis, a.bal.axis
 	}
 	a.limit = newScrewLimit(c, a.screw, actuatorCorrection)
+	a.limit.mount = m.MountStiffness
 	p.space.AddConstraint(a.limit.Constraint)
 	if a.bal != nil {
 		a.bal.limit = a.limit
@@ -194,14 +194,7 @@ func (a *actuator) before(dt, voltage float64, nominal bool) {
 	}
 	// Current between no-load and stall by load fraction, times |duty|.
 	a.current = math.Abs(u) * (m.NoLoadCurrent + (m.StallCurrent-m.NoLoadCurrent)*loadFrac)
-	edge := a.screw
-	if m.MountStiffness > 0 {
-		// Quasi-static series compliance: the mount gives way by last
-		// step's force over its stiffness.
-		edge -= a.force / m.MountStiffness
-	}
-	a.edge = edge
-	a.limit.Min, a.limit.Max = edge-a.backlash/2, edge+a.backlash/2
+	a.limit.Min, a.limit.Max = a.screw-a.backlash/2, a.screw+a.backlash/2
 	a.limit.Speed = a.speed
 }
 

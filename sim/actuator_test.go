@@ -162,3 +162,39 @@ func TestBacklash(t *testing.T) {
 		t.Errorf("load at the edge %.3f N, want the 2 N of friction", a.force)
 	}
 }
+
+func TestMountStiffness(t *testing.T) {
+	// 20 kg hung from a still screw through a mount of 1e5 N/m and
+	// released: it swings about the static deflection m g / k with period
+	// 2 pi sqrt(m/k) (Hooke's law; undamped mass on a spring, any physics
+	// textbook).
+	const m, k = 20.0, 1e5
+	r := slider(m, models.Vec2{Y: 1}, models.LeadScrew, 0, 0, 0)
+	r.Actuators[0].MountStiffness = k
+	p := newClamped(t, r, nil)
+	a := &p.acts[0]
+	var sum float64
+	var ups []float64
+	static := m * Gravity / k
+	prev := 0.0
+	for p.Time() < 1 {
+		if err := p.Step(); err != nil {
+			t.Fatal(err)
+		}
+		x := -a.gap() - static // deviation from the static deflection
+		sum += -a.gap()
+		if prev < 0 && x >= 0 {
+			ups = append(ups, p.Time()-p.dt*x/(x-prev))
+		}
+		prev = x
+	}
+	mean := sum / float64(p.step)
+	if math.Abs(mean/static-1) > 0.02 {
+		t.Errorf("mean deflection %.5f m, want %.5f m", mean, static)
+	}
+	n := len(ups) - 1
+	got, want := (ups[n]-ups[0])/float64(n), 2*math.Pi*math.Sqrt(m/k)
+	if math.Abs(got/want-1) > 0.01 {
+		t.Errorf("period %.5f s, want %.5f s", got, want)
+	}
+}

@@ -366,11 +366,18 @@ func (c *coord) impulse(j float64) {
 // edges' speed forward so a moving screw is followed without lag. Each
 // edge is a speculative one-sided constraint: the coordinate may approach
 // an edge by the gap in a step, no faster.
+//
+// With a mount stiffness the edges are springs instead: beyond an edge the
+// output compresses the mount by k times the overshoot, solved implicitly
+// as a one-sided soft constraint, stable for any stiffness.
 type screwLimit struct {
 	*cp.Constraint
 	coord
 	Min, Max, Speed float64
 	correction      float64 // fraction of a violation removed per step
+	mount           float64 // series stiffness; 0 is rigid
+	gamma           float64 // soft edges: the softness of the step
+	lo, hi          bool    // soft edges: which is overshot this step
 
 	mass     float64
 	biasLo   float64 // the velocity bounds of the step
@@ -395,6 +402,22 @@ func (l *screwLimit) edgeRate(gap, dt float64) float64 {
 
 func (l *screwLimit) PreStep(dt float64) {
 	q := l.measure()
+	if l.mount > 0 {
+		// Soft constraint without damping (Catto, "Soft constraints"):
+		// impulse -m (C' + C/dt + gamma j), gamma = 1/(k dt^2).
+		l.gamma = 1 / (l.mount * dt * dt)
+		l.mass = 1 / (l.invMass() + l.gamma)
+		l.lo, l.hi = q < l.Min, q > l.Max
+		if !l.lo {
+			l.jLo = 0
+		}
+		if !l.hi {
+			l.jHi = 0
+		}
+		l.biasLo = l.Speed - (q-l.Min)/dt
+		l.biasHi = l.Speed - (q-l.Max)/dt
+		return
+	}
 	l.mass = 1 / l.invMass()
 	// Over the step q' must stay within [biasLo, biasHi].
 	l.biasLo = l.Speed - l.edgeRate(q-l.Min, dt)
@@ -408,6 +431,10 @@ func (l *screwLimit) ApplyCachedImpulse(dtCoef float64) {
 }
 
 func (l *screwLimit) ApplyImpulse(dt float64) {
+	if l.mount > 0 {
+		l.applySoft()
+		return
+	}
 	v := l.velocity()
 	oldLo, oldHi := l.jLo, l.jHi
 	l.jLo = oldLo + (l.biasLo-v)*l.mass
@@ -420,6 +447,24 @@ func (l *screwLimit) ApplyImpulse(dt float64) {
 		l.jHi = 0
 	}
 	l.impulse(l.jLo - oldLo + l.jHi - oldHi)
+}
+
+func (l *screwLimit) applySoft() {
+	v := l.velocity()
+	var d float64
+	if l.lo {
+		old := l.jLo
+		l.jLo = math.Max(old+l.mass*(l.biasLo-v-l.gamma*old), 0)
+		d = l.jLo - old
+	}
+	if l.hi {
+		old := l.jHi
+		l.jHi = math.Min(old+l.mass*(l.biasHi-v-l.gamma*old), 0)
+		d = l.jHi - old
+	}
+	if d != 0 {
+		l.impulse(d)
+	}
 }
 
 // GetImpulse is the signed impulse of the last step along +q.

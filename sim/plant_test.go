@@ -7,6 +7,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/jakecoffman/cp/v2"
+
 	"teeter/models"
 )
 
@@ -297,5 +299,73 @@ func TestSnapshotCopy(t *testing.T) {
 	}
 	if !b.InContact || b.SupportMin >= b.SupportMax {
 		t.Errorf("standing robot: contact %v, support %g..%g", b.InContact, b.SupportMin, b.SupportMax)
+	}
+}
+
+func TestPotentiometer(t *testing.T) {
+	// A screw at 20 mm/s read by a 6-bit pot over [-0.2, 0.2] m at 100 Hz
+	// with 3 samples of latency: each reading is the position of 30 ms
+	// before, to the nearest of 63 steps of 6.35 mm (an ideal n-bit
+	// converter, 2^n - 1 steps over its range).
+	r := slider(0.5, models.Vec2{X: 1}, models.LeadScrew, 0, 0, 0)
+	r.Sensors = []models.Sensor{{Name: "pot", Kind: models.JointPosition, Joint: "rail", Rate: 100, Latency: 3,
+		Bits: 6, Min: -0.2, Max: 0.2}}
+	p, err := New(r, constant(1), Options{ControlRate: 100})
+	if err != nil {
+		t.Fatal(err)
+	}
+	clamp(p, "base")
+	if err := p.RunFor(1); err != nil {
+		t.Fatal(err)
+	}
+	rec := p.Recorder()
+	pos, got := rec.Column("rail.position"), rec.Column("pot.position")
+	q := 0.4 / 63
+	for i := 3; i < len(got); i++ {
+		want := -0.2 + math.Round((pos[i-3]+0.2)/q)*q
+		if math.Abs(got[i]-want) > 1e-12 {
+			t.Fatalf("row %d: pot reads %.6f, want %.6f (position 30 ms before %.6f)", i, got[i], want, pos[i-3])
+		}
+	}
+	if steps := (got[len(got)-1] - got[3]) / q; math.Abs(steps-math.Round(steps)) > 1e-9 || got[len(got)-1] <= got[3] {
+		t.Errorf("readings not on the converter's steps or not rising: %v", got[len(got)-5:])
+	}
+}
+
+func TestGroundStep(t *testing.T) {
+	g := newGround(0, 0.5, 0.02)
+	// Geometry of a 20 mm step up at x = 0.5 m.
+	for _, tc := range []struct {
+		p     [2]float64
+		depth float64
+		nx    float64
+	}{
+		{[2]float64{0, -0.001}, 0.001, 0},     // below the lower floor
+		{[2]float64{0.6, 0.015}, 0.005, 0},    // inside the step, nearer its top
+		{[2]float64{0.502, 0.005}, 0.002, -1}, // inside the step, nearer its riser
+		{[2]float64{0.49, 0.01}, -0.01, 0},    // above the lower floor, beside the riser
+		{[2]float64{0.7, 0.03}, -0.01, 0},     // above the step
+	} {
+		d, n := g.depth(cp.Vector{X: tc.p[0], Y: tc.p[1]})
+		if math.Abs(d-tc.depth) > 1e-12 || n.X != tc.nx {
+			t.Errorf("depth at %v = %g, normal %v; want %g, normal x %g", tc.p, d, n, tc.depth, tc.nx)
+		}
+	}
+	// A block standing on the step's top rests there, not on the floor.
+	r := block(5, 1e5, 200, 0.003, 0.8, 0)
+	r.Links[0].Position.X = 0.7
+	r.Ground = models.Ground{StepX: 0.5, StepHeight: 0.02}
+	p, err := New(r, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := p.RunFor(1); err != nil {
+		t.Fatal(err)
+	}
+	// Pad bottoms 35 mm under the block's centre, on the 20 mm step,
+	// pressed in by m g / (2 k).
+	y, want := p.link("block").world(models.Vec2{}).Y, 0.02+0.035-5*Gravity/2e5
+	if math.Abs(y-want) > 1e-4 {
+		t.Errorf("block on the step at y = %.5f m, want %.5f m", y, want)
 	}
 }

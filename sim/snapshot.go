@@ -101,8 +101,8 @@ func (p *Plant) Snapshot(dst *Snapshot) {
 			s.Joint = a.jnt.name
 		}
 		// At an edge when the gap has reached half the backlash (a small
-		// tolerance for the solver's slack).
-		s.AtEdge = a.m.Kind == models.LeadScrew && math.Abs(s.Output-a.edge) >= a.backlash/2-1e-6
+		// tolerance for the solver's slack) or the mount is compressed.
+		s.AtEdge = a.m.Kind == models.LeadScrew && math.Abs(s.Gap) >= a.backlash/2-1e-6
 		dst.Actuators = append(dst.Actuators, s)
 	}
 	dst.Pads = dst.Pads[:0]
