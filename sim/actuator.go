@@ -207,7 +207,8 @@ func (a *actuator) after(dt float64) {
 	a.force = a.limit.GetImpulse() / dt
 }
 
-// gap is output minus screw, within [-b/2, b/2] up to solver error.
+// gap is output minus screw: within [-b/2, b/2] up to solver error, plus
+// the mount's give when it has a stiffness.
 func (a *actuator) gap() float64 {
 	if a.m.Kind == models.TorqueMotor {
 		return 0

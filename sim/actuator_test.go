@@ -198,3 +198,35 @@ func TestMountStiffness(t *testing.T) {
 		t.Errorf("period %.5f s, want %.5f s", got, want)
 	}
 }
+
+func TestBattery(t *testing.T) {
+	// Lifting 200 N at full duty from a pack with 0.5 ohm inside: the
+	// terminal voltage is the open-circuit voltage less I R (Ohm's law),
+	// and the open-circuit voltage falls linearly with the charge drawn,
+	// the integral of the current (a linear discharge curve, as modelled).
+	r := slider(200/Gravity, models.Vec2{Y: 1}, models.LeadScrew, 0, 0, 12)
+	r.Battery.InternalResistance = 0.5
+	r.Battery.Capacity = 2 // C: drained visibly within a second
+	p := newClamped(t, r, constant(1))
+	charge := 0.0
+	var current float64
+	for range 500 {
+		if err := p.Step(); err != nil {
+			t.Fatal(err)
+		}
+		current = p.acts[0].current
+		charge += current * p.dt
+	}
+	voc := 12 - (12-6)*charge/2
+	if want := voc - current*0.5; math.Abs(p.battery.voltage-want) > 1e-9 {
+		t.Errorf("terminal voltage %.6f V, want %.6f V", p.battery.voltage, want)
+	}
+	if current < 0.3 || current > 4 {
+		t.Errorf("current %g A outside no-load..stall", current)
+	}
+	// The screw slows with the voltage: speed = v0 V/Vnom (1 - F/Fstall).
+	a := &p.acts[0]
+	if want := 0.02 * p.battery.voltage / 12 * 0.5; math.Abs(a.speed/want-1) > 0.03 {
+		t.Errorf("screw speed %.5f m/s at %.2f V, want %.5f", a.speed, p.battery.voltage, want)
+	}
+}
