@@ -53,7 +53,7 @@ func newBlockBox(name, kind string, onTapped func()) *blockBox {
 	b.rect.StrokeColor = colBlockEdge
 	b.rect.StrokeWidth = 1.5
 	b.rect.CornerRadius = 8
-	b.name = canvas.NewText(name, theme.Color(theme.ColorNameForeground))
+	b.name = canvas.NewText(name, colOutline)
 	b.name.TextStyle.Bold = true
 	b.name.Alignment = fyne.TextAlignCenter
 	b.kind = canvas.NewText(kind, colBlockEdge)

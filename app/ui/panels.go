@@ -140,22 +140,17 @@ func (w *Window) applyChange(c change, v float64) {
 func (w *Window) showBlock(block string) {
 	w.blockBox.Objects = nil
 	w.blockBox.Add(widget.NewLabelWithStyle(block, fyne.TextAlignLeading, fyne.TextStyle{Bold: true}))
+	var editor fyne.CanvasObject
 	if w.spec != nil {
 		for _, b := range w.spec.Blocks {
 			if b.Name != block {
 				continue
 			}
 			w.blockBox.Add(widget.NewLabel("kind: " + b.Kind))
-			for _, in := range b.Inputs {
-				src := in.Source
-				if src == "" {
-					src = "(not wired)"
-				}
-				w.blockBox.Add(widget.NewLabel(fmt.Sprintf("input %s ← %s", in.Name, src)))
-			}
 			for k, v := range b.Options {
 				w.blockBox.Add(widget.NewLabel(fmt.Sprintf("%s: %s", k, v)))
 			}
+			editor = w.blockEditor(b)
 		}
 	}
 	any := false
@@ -171,6 +166,10 @@ func (w *Window) showBlock(block string) {
 	}
 	if !any {
 		w.blockBox.Add(widget.NewLabel("No tunable parameters."))
+	}
+	if editor != nil {
+		w.blockBox.Add(widget.NewSeparator())
+		w.blockBox.Add(editor)
 	}
 	w.blockBox.Refresh()
 }
@@ -224,9 +223,10 @@ func robotParams(r *models.Robot) []robotParam {
 func (w *Window) buildRobotRows() {
 	w.robotBox.Objects = nil
 	w.robotBox.Add(widget.NewLabel("Changing these rebuilds the robot: the run restarts, the gains are kept."))
-	for _, rp := range robotParams(w.robot) {
+	current := w.currentRobot()
+	for _, rp := range robotParams(current) {
 		rp := rp
-		v, err := models.GetParam(w.robot, rp.Path)
+		v, err := models.GetParam(current, rp.Path)
 		if err != nil {
 			continue
 		}
@@ -260,4 +260,6 @@ func (w *Window) applyRobotParam(path string, v float64) {
 	w.rparam[path] = v
 	w.after(w.run.SetParam(path, v))
 	w.lastVer = 0
+	// A group path (every actuator, every pad) changes the members shown.
+	w.buildRobotRows()
 }

@@ -173,7 +173,10 @@ func (tv *tracesView) draw(img *image.RGBA) {
 		}
 		if hi-lo < 1e-9 {
 			mid := (hi + lo) / 2
-			span := math.Max(math.Abs(mid)*0.1, 1e-6)
+			span := math.Abs(mid) * 0.1
+			if span == 0 {
+				span = 1 // a signal at exactly zero
+			}
 			lo, hi = mid-span, mid+span
 		}
 		pad := (hi - lo) * 0.08

@@ -230,7 +230,9 @@ func (w *Window) build() {
 	w.shoves = newShovePanel(w)
 	w.studies = container.NewStack(container.NewCenter(widget.NewLabel("Studies (recovery margin, sweeps, tuning) will be here.")))
 	graphScroll := container.NewScroll(container.New(&fixedLayout{g: w.graph}, w.graph.content))
-	graphTab := container.NewVSplit(graphScroll, container.NewVScroll(w.blockBox))
+	addBlock := widget.NewButtonWithIcon("Add block…", theme.ContentAddIcon(), w.addBlockDialog)
+	graphTab := container.NewBorder(container.NewHBox(addBlock, widget.NewLabel("Select a block to tune, rewire or remove it.")), nil, nil, nil,
+		container.NewVSplit(graphScroll, container.NewVScroll(w.blockBox)))
 	tabs := container.NewAppTabs(
 		container.NewTabItem("Gains", container.NewVScroll(w.gainBox)),
 		container.NewTabItem("Robot", container.NewVScroll(w.robotBox)),

@@ -16,6 +16,7 @@ import (
 	"fyne.io/fyne/v2/test"
 	"fyne.io/fyne/v2/widget"
 
+	"teeter/control"
 	"teeter/models"
 	"teeter/sim"
 	"teeter/sim/live"
@@ -437,5 +438,62 @@ func TestExportsWriteWholeFiles(t *testing.T) {
 	}
 	if left, _ := filepath.Glob(filepath.Join(dir, ".*.tmp")); len(left) != 0 {
 		t.Fatalf("temporary files left: %v", left)
+	}
+}
+
+func TestEditingTheGraphValidatesBeforeApplying(t *testing.T) {
+	w, _ := openTest(t, "builtin:pendulum")
+	blocks := len(w.spec.Blocks)
+	// Removing a block that others read from is refused: the wiring check
+	// names the missing source, and the running controller stays.
+	var used string
+	for _, b := range w.spec.Blocks {
+		for _, in := range b.Inputs {
+			if name, _, _ := strings.Cut(in.Source, "."); name != "" && used == "" {
+				for _, c := range w.spec.Blocks {
+					if c.Name == name {
+						used = name
+					}
+				}
+			}
+		}
+	}
+	if used == "" {
+		t.Fatal("no wired block in the pendulum controller")
+	}
+	if err := w.editController(func(c *models.Value) error { return removeBlock(c, used) }); err == nil {
+		t.Fatalf("removing %s, which other blocks read, was accepted", used)
+	} else if !strings.Contains(err.Error(), used) {
+		t.Fatalf("the refusal does not name %s: %v", used, err)
+	}
+	if len(w.spec.Blocks) != blocks {
+		t.Fatal("a refused edit changed the graph")
+	}
+	// Adding a block wired to an existing one is accepted and runs.
+	src := w.spec.Blocks[0].Name
+	err := w.editController(func(c *models.Value) error {
+		return addBlock(c, "name: watch\nkind: pid\ninput: {setpoint: 0, measurement: "+src+"}\nkp: 2\n")
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(w.spec.Blocks) != blocks+1 || w.gainRows["watch.kp"] == nil {
+		t.Fatalf("the new block is not in the graph and gains (%d blocks)", len(w.spec.Blocks))
+	}
+	if v, err := w.run.Gain("watch.kp"); err != nil || v != 2 {
+		t.Fatalf("watch.kp in the running graph: %g, %v", v, err)
+	}
+	// Rewiring to a block that does not exist is refused.
+	var watch *control.BlockSpec
+	for _, b := range w.spec.Blocks {
+		if b.Name == "watch" {
+			watch = b
+		}
+	}
+	if err := w.editController(func(c *models.Value) error { return rewire(c, watch, "measurement", "nowhere") }); err == nil {
+		t.Fatal("wiring to a missing block was accepted")
+	}
+	if err := <-w.run.StepOnce(); err != nil {
+		t.Fatal(err)
 	}
 }

@@ -1,0 +1,254 @@
+package ui
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/widget"
+
+	"teeter/control"
+	"teeter/models"
+	"teeter/sim"
+)
+
+// Editing the controller graph works on the controller section as a value
+// tree: a change is made to a copy, the copy is parsed and built against the
+// robot, and only a controller that passes both replaces the running one.
+
+// controllerValue is the robot's controller section (a built-in robot's
+// built-in controller when it has none), as a value tree to edit.
+func controllerValue(r *models.Robot) (*models.Value, error) {
+	if r.Controller != nil {
+		v := copyValue(*r.Controller)
+		return &v, nil
+	}
+	name, ok := strings.CutPrefix(r.Source, "builtin:")
+	if !ok {
+		return nil, errors.New("this robot has no controller section to edit")
+	}
+	data, err := control.BuiltinSource(name)
+	if err != nil {
+		return nil, err
+	}
+	root, err := models.ParseValue("builtin:"+name+".controller", data)
+	if err != nil {
+		return nil, err
+	}
+	if f, ok := root.Get("controller"); ok {
+		v := f.Value
+		return &v, nil
+	}
+	return &root, nil
+}
+
+func copyValue(v models.Value) models.Value {
+	c := v
+	if v.Items != nil {
+		c.Items = make([]models.Value, len(v.Items))
+		for i := range v.Items {
+			c.Items[i] = copyValue(v.Items[i])
+		}
+	}
+	if v.Fields != nil {
+		c.Fields = make([]models.Field, len(v.Fields))
+		for i, f := range v.Fields {
+			c.Fields[i] = models.Field{Key: f.Key, KeyPos: f.KeyPos, Value: copyValue(f.Value)}
+		}
+	}
+	return c
+}
+
+func scalar(text string) models.Value { return models.Value{Kind: models.Scalar, Text: text} }
+
+// blockList returns the blocks list of a controller section.
+func blockList(ctrl *models.Value) (*models.Value, error) {
+	f, ok := ctrl.Get("blocks")
+	if !ok || f.Value.Kind != models.List {
+		return nil, errors.New("the controller has no list of blocks")
+	}
+	return &f.Value, nil
+}
+
+func blockIndex(blocks *models.Value, name string) int {
+	for i := range blocks.Items {
+		if f, ok := blocks.Items[i].Get("name"); ok && f.Value.Text == name {
+			return i
+		}
+	}
+	return -1
+}
+
+// removeBlock drops the named block.
+func removeBlock(ctrl *models.Value, name string) error {
+	blocks, err := blockList(ctrl)
+	if err != nil {
+		return err
+	}
+	i := blockIndex(blocks, name)
+	if i < 0 {
+		return fmt.Errorf("no block %q", name)
+	}
+	blocks.Items = append(blocks.Items[:i], blocks.Items[i+1:]...)
+	return nil
+}
+
+// rewire sets the source of one input port of a block, writing the block's
+// wiring as a mapping of every wired port.
+func rewire(ctrl *models.Value, b *control.BlockSpec, port, source string) error {
+	blocks, err := blockList(ctrl)
+	if err != nil {
+		return err
+	}
+	i := blockIndex(blocks, b.Name)
+	if i < 0 {
+		return fmt.Errorf("no block %q", b.Name)
+	}
+	input := models.Value{Kind: models.Map}
+	found := false
+	for _, p := range b.Inputs {
+		src := p.Source
+		if p.Name == port {
+			src, found = strings.TrimSpace(source), true
+		}
+		if src != "" {
+			input.Fields = append(input.Fields, models.Field{Key: p.Name, Value: scalar(src)})
+		}
+	}
+	if !found {
+		return fmt.Errorf("block %s has no input %q", b.Name, port)
+	}
+	blk := &blocks.Items[i]
+	if f, ok := blk.Get("input"); ok {
+		f.Value = input
+	} else {
+		blk.Fields = append(blk.Fields, models.Field{Key: "input", Value: input})
+	}
+	return nil
+}
+
+// addBlock appends a block written as YAML fields (name, kind, input and
+// its settings).
+func addBlock(ctrl *models.Value, text string) error {
+	v, err := models.ParseValue("(new block)", []byte(text))
+	if err != nil {
+		return err
+	}
+	if v.Kind != models.Map {
+		return errors.New("(new block): write the block as fields, one per line: name, kind, input and settings")
+	}
+	blocks, err := blockList(ctrl)
+	if err != nil {
+		return err
+	}
+	blocks.Items = append(blocks.Items, v)
+	return nil
+}
+
+// checkController parses and builds an edited controller for the robot.
+func checkController(r *models.Robot, ctrl *models.Value) (*control.Spec, error) {
+	spec, err := control.Parse(ctrl)
+	if err != nil {
+		return nil, err
+	}
+	if _, err := control.Build(spec, sim.Channels(r), sim.ActuatorNames(r)); err != nil {
+		return nil, err
+	}
+	return spec, nil
+}
+
+// editController applies an edit to the running controller, or shows why
+// it cannot be applied and changes nothing. Gains tuned in the window are
+// kept for the parameters that still exist.
+func (w *Window) editController(edit func(ctrl *models.Value) error) error {
+	ctrl, err := controllerValue(w.robot)
+	if err == nil {
+		err = edit(ctrl)
+	}
+	var spec *control.Spec
+	if err == nil {
+		spec, err = checkController(w.robot, ctrl)
+	}
+	next := w.robot.Clone()
+	next.Controller = ctrl
+	if err == nil {
+		run := next.Clone()
+		for p, v := range w.rparam {
+			_ = models.SetParam(run, p, v)
+		}
+		err = <-w.run.SetRobot(run)
+	}
+	if err != nil {
+		w.showError("The controller was not changed", err)
+		return err
+	}
+	tuned := w.gains
+	w.robot, w.spec = next, spec
+	w.params = nil
+	if g, err := control.Build(spec, sim.Channels(next), sim.ActuatorNames(next)); err == nil {
+		w.params = g.Params()
+	}
+	w.gains = map[string]float64{}
+	for _, p := range w.params {
+		w.gains[p.Path] = p.Value
+		if v, ok := tuned[p.Path]; ok && v != p.Value {
+			w.gains[p.Path] = v
+			w.after(w.run.SetGain(p.Path, v))
+		}
+	}
+	w.hist = history{}
+	w.buildGainRows()
+	for path, v := range w.gains {
+		if row := w.gainRows[path]; row != nil {
+			row.show(v)
+		}
+	}
+	w.graph.setSpec(spec)
+	w.blockBox.Objects = []fyne.CanvasObject{widget.NewLabel("Select a block to see its parameters.")}
+	w.blockBox.Refresh()
+	w.lastVer = 0
+	w.notice.SetText("Controller changed: the run restarted")
+	return nil
+}
+
+// blockEditor is the part of the block panel that removes and rewires.
+func (w *Window) blockEditor(b *control.BlockSpec) fyne.CanvasObject {
+	box := container.NewVBox()
+	for _, in := range b.Inputs {
+		in := in
+		e := widget.NewEntry()
+		e.SetText(in.Source)
+		e.SetPlaceHolder("block.output, block or a number")
+		e.OnSubmitted = func(src string) {
+			w.editController(func(c *models.Value) error { return rewire(c, b, in.Name, src) })
+		}
+		box.Add(container.NewBorder(nil, nil, widget.NewLabel("input "+in.Name+" ←"), nil, e))
+	}
+	if len(b.Inputs) > 0 {
+		box.Add(widget.NewLabel("Press Enter in an input to rewire it."))
+	}
+	remove := widget.NewButton("Remove block "+b.Name, func() {
+		w.editController(func(c *models.Value) error { return removeBlock(c, b.Name) })
+	})
+	box.Add(remove)
+	return box
+}
+
+// addBlockDialog asks for a new block written as YAML fields.
+func (w *Window) addBlockDialog() {
+	text := widget.NewMultiLineEntry()
+	text.SetText("name: new_loop\nkind: pid\ninput: {setpoint: 0, measurement: torso_tilt}\nkp: 1\n")
+	text.SetMinRowsVisible(6)
+	kinds := widget.NewLabel("Kinds: " + strings.Join(control.KindNames(), ", "))
+	kinds.Wrapping = fyne.TextWrapWord
+	d := dialog.NewCustomConfirm("Add a block", "Add", "Cancel", container.NewBorder(nil, kinds, nil, nil, text), func(ok bool) {
+		if ok {
+			w.editController(func(c *models.Value) error { return addBlock(c, text.Text) })
+		}
+	}, w.win)
+	d.Resize(fyne.NewSize(520, 360))
+	d.Show()
+}
