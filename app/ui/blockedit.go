@@ -187,6 +187,7 @@ func (w *Window) editController(edit func(ctrl *models.Value) error) error {
 	}
 	tuned := w.gains
 	w.robot, w.spec = next, spec
+	w.live = w.currentRobot()
 	w.params = nil
 	if g, err := control.Build(spec, sim.Channels(next), sim.ActuatorNames(next)); err == nil {
 		w.params = g.Params()

@@ -79,7 +79,9 @@ func (row *gainRow) object(w *Window) fyne.CanvasObject {
 	}
 	entry := container.NewGridWrap(fyne.NewSize(120, row.field.Entry.MinSize().Height), row.field.Entry)
 	nameBox := container.NewGridWrap(fyne.NewSize(130, name.MinSize().Height), name)
-	top := container.NewBorder(nil, nil, nameBox, container.NewHBox(entry, widget.NewLabel(unit), back), row.slider)
+	unitLabel := widget.NewLabel(unit)
+	unitBox := container.NewGridWrap(fyne.NewSize(64, unitLabel.MinSize().Height), unitLabel)
+	top := container.NewBorder(nil, nil, nameBox, container.NewHBox(entry, unitBox, back), row.slider)
 	return container.NewVBox(top, row.field.Reason)
 }
 
@@ -258,6 +260,7 @@ func (w *Window) buildRobotRows() {
 
 func (w *Window) applyRobotParam(path string, v float64) {
 	w.rparam[path] = v
+	w.live = w.currentRobot()
 	w.after(w.run.SetParam(path, v))
 	w.lastVer = 0
 	// A group path (every actuator, every pad) changes the members shown.

@@ -47,6 +47,7 @@ type Window struct {
 	run *runner
 
 	robot  *models.Robot // the robot as loaded, before live parameter changes
+	live   *models.Robot // the robot as run: with the window's parameter changes
 	path   string        // the file it came from, for Save ("" for a built-in)
 	spec   *control.Spec
 	params []control.ParamInfo // file values
@@ -343,7 +344,7 @@ func (w *Window) typedKey(e *fyne.KeyEvent) {
 
 // setModel installs a newly loaded robot: panels, graph, traces.
 func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
-	w.robot, w.path, w.spec = r, path, spec
+	w.robot, w.live, w.path, w.spec = r, r, path, spec
 	w.gains, w.rparam = map[string]float64{}, map[string]float64{}
 	w.hist = history{}
 	w.params = nil
@@ -379,7 +380,7 @@ func (w *Window) refresh() {
 	}
 	w.lastVer = st.Version
 	snap := w.run.Latest()
-	sceneFromSnapshot(&w.scene, w.robot, snap)
+	sceneFromSnapshot(&w.scene, w.live, snap)
 	w.view.setScene(&w.scene)
 
 	names := w.run.SignalNames()
