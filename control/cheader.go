@@ -113,5 +113,5 @@ func (g *Graph) CHeader(source string) []byte { return CHeader(g.Params(), g.rat
 
 // WriteCHeader saves the graph's C header to a file.
 func (g *Graph) WriteCHeader(file, source string) error {
-	return writeFileAtomic(file, g.CHeader(source))
+	return writeBytes(file, g.CHeader(source))
 }

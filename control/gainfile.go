@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	goio "io"
 	"math"
 	"os"
 	"path/filepath"
@@ -157,30 +158,18 @@ func ReadGains(file string) (GainSet, error) {
 // as YAML otherwise.
 func WriteGains(file string, gs GainSet) error {
 	if strings.EqualFold(filepath.Ext(file), ".json") {
-		return writeFileAtomic(file, MarshalGainsJSON(gs))
+		return writeBytes(file, MarshalGainsJSON(gs))
 	}
-	return writeFileAtomic(file, MarshalGainsYAML(gs))
+	return writeBytes(file, MarshalGainsYAML(gs))
 }
 
-// writeFileAtomic writes through a temporary file in the same directory and
-// renames it, so a reader never sees half a file.
-func writeFileAtomic(file string, data []byte) error {
-	tmp, err := os.CreateTemp(filepath.Dir(file), "."+filepath.Base(file)+".tmp*")
-	if err != nil {
+// writeBytes saves data through models.WriteFileAtomic, the one place that
+// writes files, so a reader never sees half a file.
+func writeBytes(file string, data []byte) error {
+	return models.WriteFileAtomic(file, func(w goio.Writer) error {
+		_, err := w.Write(data)
 		return err
-	}
-	name := tmp.Name()
-	_, err = tmp.Write(data)
-	if cerr := tmp.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(name, file)
-	}
-	if err != nil {
-		os.Remove(name)
-	}
-	return err
+	})
 }
 
 // isFinite reports whether x is neither infinite nor NaN.
