@@ -21,7 +21,7 @@ type MarginSpec struct {
 	Dirs []string
 	Tol  float64 // N*s; the answer is within Tol of the true edge (default 0.05)
 	Max  float64 // N*s; the search gives up above this (default 100)
-	At   float64 // s; when the shove lands (default 0.5)
+	At   float64 // s; when the shove lands (default MarginShoveAt)
 	// Settle is how long the robot must stay up after the shove, s
 	// (default 3).
 	Settle float64
@@ -48,6 +48,9 @@ type MarginResult struct {
 	Runs     int  `json:"runs"`
 }
 
+// MarginShoveAt is when the shove lands unless MarginSpec.At says.
+const MarginShoveAt = 0.5 // s
+
 func (s *MarginSpec) defaults() {
 	if !(s.Tol > 0) {
 		s.Tol = 0.05
@@ -56,7 +59,7 @@ func (s *MarginSpec) defaults() {
 		s.Max = 100
 	}
 	if !(s.At > 0) {
-		s.At = 0.5
+		s.At = MarginShoveAt
 	}
 	if !(s.Settle > 0) {
 		s.Settle = 3

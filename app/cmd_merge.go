@@ -1,0 +1,68 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+
+	"teeter/models"
+	"teeter/sim/study"
+)
+
+func init() {
+	commands = append(commands, command{"merge", "join the CSV files of a sharded sweep into one, and plot it", cmdMerge})
+}
+
+func cmdMerge(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("merge", stderr)
+	out := fs.String("csv", "", "write the merged CSV here (default: standard output)")
+	plotFile := fs.String("plot", "", "plot a metric to this .png or .svg file")
+	metric := fs.String("metric", "", "metric to plot (default: the first)")
+	partial := fs.Bool("partial", false, "merge even if points are missing")
+	fs.Usage = func() {
+		fmt.Fprintln(stderr, "usage: teeter merge [options] SHARD.csv...")
+		fs.PrintDefaults()
+	}
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return err
+		}
+		return usageError{err}
+	}
+	if fs.NArg() == 0 {
+		return usageError{errors.New("give the shard CSV files to merge")}
+	}
+	var parts []*study.SweepResult
+	for _, name := range fs.Args() {
+		f, err := os.Open(name)
+		if err != nil {
+			return err
+		}
+		r, err := study.ReadSweepCSV(name, f)
+		f.Close()
+		if err != nil {
+			return err
+		}
+		parts = append(parts, r)
+	}
+	merged, missing, err := study.MergeSweeps(parts...)
+	if err != nil {
+		return err
+	}
+	if len(missing) > 0 && !*partial {
+		return fmt.Errorf("%d of %d points are missing (first: point %d); run the missing shards or pass --partial", len(missing), merged.Total, missing[0])
+	}
+	if *out != "" {
+		if err := models.WriteFileAtomic(*out, merged.WriteCSV); err != nil {
+			return err
+		}
+	} else if err := merged.WriteCSV(stdout); err != nil {
+		return err
+	}
+	if *plotFile != "" {
+		return study.PlotSweep(merged, *metric, *plotFile)
+	}
+	return nil
+}

@@ -1,0 +1,187 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+
+	"teeter/models"
+	"teeter/sim"
+	"teeter/sim/study"
+)
+
+func init() {
+	commands = append(commands, command{"sweep", "run a parameter sweep on all cores, to CSV and a plot", cmdSweep})
+}
+
+func cmdSweep(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("sweep", stderr)
+	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
+	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
+	gains := fs.String("gains", "", "gain set file applied on top of the controller")
+	var params, shoves multiFlag
+	fs.Var(&params, "param", "PATH=FROM:TO:STEPS, a robot parameter or a gain (repeat for a 2-D grid)")
+	fs.Var(&shoves, "shove", "a shove in every run, e.g. at=1s,impulse=2N*s,dir=left (repeatable)")
+	metric := fs.String("metric", "peak_tilt", "metric(s) to record, comma separated ('teeter sweep -metrics' lists them)")
+	listMetrics := fs.Bool("metrics", false, "list the metrics and exit")
+	durText := fs.String("duration", "5s", "simulated time per point")
+	csvFile := fs.String("csv", "", "write the results to this CSV file")
+	plotFile := fs.String("plot", "", "plot the first metric to this .png or .svg file")
+	workers := fs.Int("workers", 0, "runs in parallel (default: every core)")
+	shardText := fs.String("shard", "", "I/N: run only every N-th point from point I, for a job array")
+	seed := fs.Uint64("seed", 1, "seed; point i runs with seed+i")
+	if err := parseFlags(fs, args); err != nil {
+		return err
+	}
+	if *listMetrics {
+		for _, m := range study.Metrics() {
+			fmt.Fprintf(stdout, "%-14s %-9s %s\n", m.Name, m.Unit, m.Meaning)
+		}
+		return nil
+	}
+	spec := study.SweepSpec{Metrics: strings.Split(*metric, ","), Seed: *seed, Workers: *workers}
+	if len(params) == 0 {
+		return usageError{errors.New("give at least one --param PATH=FROM:TO:STEPS")}
+	}
+	for _, p := range params {
+		a, err := study.ParseAxis(p)
+		if err != nil {
+			return usageError{err}
+		}
+		spec.Axes = append(spec.Axes, a)
+	}
+	var err error
+	if spec.Duration, err = parseDuration(*durText); err != nil {
+		return err
+	}
+	if spec.Shoves, err = parseShoves(shoves); err != nil {
+		return err
+	}
+	if *shardText != "" {
+		if spec.Shard, err = study.ParseShard(*shardText); err != nil {
+			return usageError{err}
+		}
+	}
+	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	if err != nil {
+		return err
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	bar := newProgress(stderr, "sweep")
+	spec.Progress = bar.update
+	res, runErr := rig.Sweep(ctx, spec)
+	bar.finish()
+	if res == nil {
+		return runErr
+	}
+	if *csvFile != "" {
+		if err := models.WriteFileAtomic(*csvFile, res.WriteCSV); err != nil {
+			return err
+		}
+	} else {
+		if err := res.WriteCSV(stdout); err != nil {
+			return err
+		}
+	}
+	if *plotFile != "" && runErr == nil {
+		if err := study.PlotSweep(res, spec.Metrics[0], *plotFile); err != nil {
+			return err
+		}
+	}
+	failed := 0
+	for _, p := range res.Points {
+		if p.Err != "" {
+			failed++
+		}
+	}
+	if failed > 0 {
+		fmt.Fprintf(stderr, "teeter sweep: %d of %d points failed (see the error column)\n", failed, len(res.Points))
+	}
+	if runErr != nil {
+		return fmt.Errorf("stopped after %d points (kept in the CSV): %v", len(res.Points), runErr)
+	}
+	return nil
+}
+
+func parseDuration(text string) (float64, error) {
+	d, _, err := models.ParseQuantity(text, models.Duration)
+	if err != nil || d <= 0 {
+		return 0, usageError{fmt.Errorf("--duration %q: want a positive duration such as 5s", text)}
+	}
+	return d, nil
+}
+
+func parseShoves(specs []string) ([]sim.Shove, error) {
+	var out []sim.Shove
+	for _, s := range specs {
+		sh, err := sim.ParseShove(s)
+		if err != nil {
+			return nil, usageError{err}
+		}
+		out = append(out, sh)
+	}
+	return out, nil
+}
+
+// progress draws a bar on a terminal for a study that has run for more
+// than a second; elsewhere (pipes, files, tests) it stays silent.
+type progress struct {
+	mu    sync.Mutex
+	w     io.Writer
+	what  string
+	start time.Time
+	bar   *progressbar.ProgressBar
+}
+
+func newProgress(stderr io.Writer, what string) *progress {
+	p := &progress{what: what, start: time.Now()}
+	if f, ok := stderr.(*os.File); ok {
+		if st, err := f.Stat(); err == nil && st.Mode()&os.ModeCharDevice != 0 {
+			p.w = f
+		}
+	}
+	return p
+}
+
+func (p *progress) update(done, total int) {
+	if p.w == nil {
+		return
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if p.bar == nil {
+		if time.Since(p.start) < time.Second {
+			return
+		}
+		p.bar = progressbar.NewOptions(total, progressbar.OptionSetWriter(p.w), progressbar.OptionSetDescription(p.what),
+			progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish(), progressbar.OptionShowCount())
+	}
+	p.bar.ChangeMax(total)
+	p.bar.Set(done)
+}
+
+func (p *progress) describe(text string) {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if p.bar != nil {
+		p.bar.Describe(text)
+	}
+}
+
+func (p *progress) finish() {
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	if p.bar != nil {
+		p.bar.Finish()
+		fmt.Fprintln(p.w)
+	}
+}
