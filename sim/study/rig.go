@@ -24,7 +24,7 @@ type Rig struct {
 }
 
 // LoadRig loads a robot (a file or builtin:NAME) and finds its controller:
-// controllerFile if given, else the robot file's controller section, else
+// controllerFile if given (a file or builtin:NAME), else the robot file's controller section, else
 // the built-in controller of a built-in robot. gainsFile, if given, is a gain
 // set applied on top.
 func LoadRig(model, controllerFile, gainsFile string) (*Rig, error) {
@@ -34,6 +34,8 @@ func LoadRig(model, controllerFile, gainsFile string) (*Rig, error) {
 	}
 	rig := &Rig{Robot: robot}
 	switch {
+	case strings.HasPrefix(controllerFile, "builtin:"):
+		rig.Spec, err = control.Builtin(strings.TrimPrefix(controllerFile, "builtin:"))
 	case controllerFile != "":
 		rig.Spec, err = control.ParseFile(controllerFile)
 	case robot.Controller != nil:
