@@ -22,6 +22,8 @@ func helpText() string {
 | F | freeze or unfreeze the plots |
 | P | pin this run as the reference |
 | + − 0 | zoom in, zoom out, fit |
+| Ctrl+Z, Ctrl+Shift+Z or Ctrl+Y | undo, redo a gain or robot change |
+| Ctrl+O, Ctrl+S | open a robot, save it |
 
 ## Mouse
 

@@ -14,6 +14,7 @@ import (
 	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/layout"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
@@ -248,6 +249,20 @@ func (w *Window) build() {
 	w.win.SetMainMenu(w.menu())
 	w.win.Resize(fyne.NewSize(1280, 800))
 	w.win.Canvas().SetOnTypedKey(w.typedKey)
+	for _, sc := range []struct {
+		key fyne.KeyName
+		mod fyne.KeyModifier
+		do  func()
+	}{
+		{fyne.KeyZ, fyne.KeyModifierShortcutDefault, w.Undo},
+		{fyne.KeyZ, fyne.KeyModifierShortcutDefault | fyne.KeyModifierShift, w.Redo},
+		{fyne.KeyY, fyne.KeyModifierShortcutDefault, w.Redo},
+		{fyne.KeyO, fyne.KeyModifierShortcutDefault, w.openDialog},
+		{fyne.KeyS, fyne.KeyModifierShortcutDefault, w.saveRobot},
+	} {
+		do := sc.do
+		w.win.Canvas().AddShortcut(&desktop.CustomShortcut{KeyName: sc.key, Modifier: sc.mod}, func(fyne.Shortcut) { do() })
+	}
 	w.win.SetCloseIntercept(func() { w.win.Close() })
 }
 

@@ -256,7 +256,15 @@ func (r *Runner[S]) publish() {
 }
 
 // tick advances one controller tick and reports whether the run may go on.
-func (r *Runner[S]) tick() bool {
+// A panic in the plant or controller stops the run with an error instead
+// of taking the program down.
+func (r *Runner[S]) tick() (ok bool) {
+	defer func() {
+		if e := recover(); e != nil {
+			r.stop(fmt.Errorf("simulation failed at %.4f s: %v", r.plant.Time(), e))
+			ok = false
+		}
+	}()
 	for r.nextShove < len(r.schedule) && r.schedule[r.nextShove].At <= r.plant.Time()+1e-12 {
 		if err := r.plant.Shove(r.schedule[r.nextShove]); err != nil {
 			r.mu.Lock()
@@ -266,10 +274,7 @@ func (r *Runner[S]) tick() bool {
 		r.nextShove++
 	}
 	if err := r.plant.Step(); err != nil {
-		r.running = false
-		r.mu.Lock()
-		r.status.Err = err
-		r.mu.Unlock()
+		r.stop(err)
 		return false
 	}
 	r.record(false)
@@ -372,8 +377,24 @@ func (r *Runner[S]) loop() {
 	}
 }
 
+func (r *Runner[S]) stop(err error) {
+	r.running = false
+	r.mu.Lock()
+	r.status.Err = err
+	r.mu.Unlock()
+}
+
+// handle runs one command; a panic in it becomes the command's error.
 func (r *Runner[S]) handle(c command) {
-	err := c.apply()
+	var err error
+	func() {
+		defer func() {
+			if e := recover(); e != nil {
+				err = fmt.Errorf("command failed: %v", e)
+			}
+		}()
+		err = c.apply()
+	}()
 	if c.reply != nil {
 		c.reply <- err
 	}

@@ -34,6 +34,9 @@ func (p *fakePlant) Step() error {
 	if p.poisoned {
 		return errors.New("blew up: x is not finite")
 	}
+	if p.x == 42 {
+		panic("the fake plant panics at x = 42")
+	}
 	p.kpSeen = *p.kp
 	p.v += -p.kpSeen * p.x * p.dt
 	p.x += p.v * p.dt
@@ -369,4 +372,17 @@ func TestScheduledShovesComeAtTheirTime(t *testing.T) {
 	if q := (*built)[1]; q.v < 0.9 {
 		t.Fatalf("schedule not replayed after reset: v = %g", q.v)
 	}
+}
+
+func TestAPanickingPlantStopsTheRunWithAnError(t *testing.T) {
+	run, _ := newFake(t)
+	must(t, run.SetParam("start", 42))
+	if err := <-run.StepOnce(); err == nil {
+		t.Fatal("a panic in the plant was not reported")
+	}
+	if st := run.Status(); st.Err == nil || st.Running {
+		t.Fatalf("status after a panic: %+v", st)
+	}
+	must(t, run.SetParam("start", 0.1))
+	must(t, run.StepOnce())
 }
