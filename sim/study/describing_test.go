@@ -1,0 +1,117 @@
+package study
+
+import (
+	"math"
+	"math/cmplx"
+	"testing"
+)
+
+// backlashFundamental runs a sine of amplitude a through backlash of the
+// given play and returns the first Fourier coefficient of the output over
+// the input amplitude: the describing function by its definition (Gelb and
+// Vander Velde, 1968, ch. 1).
+func backlashFundamental(a, width float64) complex128 {
+	const n = 200000
+	out := 0.0
+	// Start at the top, where the output has just been dragged up.
+	out = a - width/2
+	var s, c float64
+	for period := 0; period < 2; period++ {
+		s, c = 0, 0
+		for i := 0; i < n; i++ {
+			th := 2 * math.Pi * float64(i) / n
+			x := a * math.Cos(th)
+			if x-out > width/2 {
+				out = x - width/2
+			} else if out-x > width/2 {
+				out = x + width/2
+			}
+			s += out * math.Sin(th)
+			c += out * math.Cos(th)
+		}
+	}
+	// Input a cos(th): in phase is the cos part, quadrature the sin part.
+	return complex(2*c/n/a, -2*s/n/a)
+}
+
+func TestBacklashDescribingFunction(t *testing.T) {
+	const width = 0.002
+	for _, a := range []float64{0.0011, 0.0015, 0.002, 0.005, 0.02} {
+		got := BacklashDF(a, width)
+		want := backlashFundamental(a, width)
+		if cmplx.Abs(got-want) > 1e-3 {
+			t.Errorf("a %g: DF %v, numerical fundamental %v", a, got, want)
+		}
+		// The closed form as Gelb and Vander Velde print it, with b the
+		// half-play: Im N = -(4b/(pi a))(1 - b/a).
+		b := width / 2
+		if im := -4 * b / (math.Pi * a) * (1 - b/a); math.Abs(imag(got)-im) > 1e-12 {
+			t.Errorf("a %g: Im N %g, book %g", a, imag(got), im)
+		}
+	}
+	if BacklashDF(0.0009, width) != 0 {
+		t.Error("backlash passes an input smaller than its play")
+	}
+}
+
+func TestBacklashCycleOnKnownLoop(t *testing.T) {
+	// K/(s(s+1)) with backlash: a classic limit-cycle example. The
+	// predicted pair must satisfy the harmonic balance N(a) G(jw) = -1,
+	// checked here on the phase condition arg G + arg N = -180 deg and
+	// the gain condition |G||N| = 1 independently of the solver's residual.
+	const k, width = 5.0, 0.1
+	g := func(w float64) complex128 {
+		s := complex(0, w)
+		return complex(k, 0) / (s * (s + 1))
+	}
+	a, w, _, ok := BacklashCycle(g, width, 0.05, 20)
+	if !ok {
+		t.Fatalf("no limit cycle found (a %g, w %g)", a, w)
+	}
+	n := BacklashDF(a, width)
+	if math.Abs(cmplx.Abs(n)*cmplx.Abs(g(w))-1) > 1e-3 {
+		t.Errorf("gain balance: |N||G| = %g", cmplx.Abs(n)*cmplx.Abs(g(w)))
+	}
+	phase := cmplx.Phase(n) + cmplx.Phase(g(w))
+	if math.Abs(math.Remainder(phase+math.Pi, 2*math.Pi)) > 1e-3 {
+		t.Errorf("phase balance: %g rad", phase)
+	}
+	t.Logf("predicted limit cycle: amplitude %.4g at %.4g rad/s", a, w)
+}
+
+func TestBacklashCycleAgainstSimulation(t *testing.T) {
+	// The same loop simulated: y'' + y' = k*u, u = backlash(-y). The
+	// describing function is an approximation (it keeps only the first
+	// harmonic), so allow 15 % on amplitude and frequency (Gelb and Vander
+	// Velde, ch. 2, on its accuracy for low-pass loops).
+	const k, width, dt = 5.0, 0.1, 1e-4
+	a, w, _, ok := BacklashCycle(func(w float64) complex128 {
+		s := complex(0, w)
+		return complex(k, 0) / (s * (s + 1))
+	}, width, 0.05, 20)
+	if !ok {
+		t.Fatal("no predicted cycle")
+	}
+	y, v, out := 0.3, 0.0, 0.0
+	var ts, es []float64
+	for i := 0; i < 600000; i++ {
+		x := -y
+		if x-out > width/2 {
+			out = x - width/2
+		} else if out-x > width/2 {
+			out = x + width/2
+		}
+		v += dt * (k*out - v)
+		y += dt * v
+		ts, es = append(ts, float64(i)*dt), append(es, x)
+	}
+	amp, period, cycles, err := LimitCycle(ts, es, 30)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ws := 2 * math.Pi / period
+	t.Logf("predicted %.4g at %.4g rad/s; simulated %.4g at %.4g rad/s over %d cycles", a, w, amp, ws, cycles)
+	if math.Abs(amp-a)/a > 0.15 || math.Abs(ws-w)/w > 0.15 {
+		t.Errorf("prediction %.4g at %.4g rad/s, simulation %.4g at %.4g rad/s", a, w, amp, ws)
+	}
+}
