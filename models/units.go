@@ -276,15 +276,28 @@ func parseUnit(text string) (float64, Dim, error) {
 		p := power * sign
 		factor *= math.Pow(u.factor, float64(p))
 		for d := range dim {
-			dim[d] += u.dim[d] * int8(p)
+			// Bounded well inside int8, so no product of terms wraps
+			// round to another dimension.
+			e := int(dim[d]) + int(u.dim[d])*p
+			if e > maxPower || e < -maxPower {
+				return 0, Dim{}, fmt.Errorf("unit %q has too high a power", text)
+			}
+			dim[d] = int8(e)
 		}
 		if i < len(s) && s[i] == '/' {
 			sign = -1
 		}
 		start = i + 1
 	}
+	if factor == 0 || math.IsInf(factor, 0) {
+		// 0 times an infinite factor would be NaN.
+		return 0, Dim{}, fmt.Errorf("unit %q is out of range", text)
+	}
 	return factor, dim, nil
 }
+
+// maxPower bounds each base unit's power in a unit.
+const maxPower = 16
 
 // ToUnit converts an SI value of the unit's kind into the named unit, for
 // display at the edges (reports, the window). The unit must be known.

@@ -2,6 +2,7 @@ package models
 
 import (
 	"math"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -105,7 +106,13 @@ func TestUnitErrors(t *testing.T) {
 // error; it never panics (issue: bad input never crashes teeter).
 func FuzzParseQuantity(f *testing.F) {
 	for _, s := range []string{"12 mm", "0.5 deg", "2.5 kg", "30 mm/s", "200 Hz", "5 ms", "4 N*s",
-		"2 N*m/rad", "1e999 m", "NaN", "-0", "3 kg*m^2/s^2", "1 m^9", "1 /s", "7 mAh", "", "deg"} {
+		"2 N*m/rad", "1e999 m", "NaN", "-0", "3 kg*m^2/s^2", "1 m^9", "1 /s", "7 mAh", "", "deg",
+		// Every unit symbol, once, and forms around the edges of the grammar.
+		"1 um", "1 µm", "1 in", "1 ft", "1 mrad", "1 °", "1 rev", "1 arcmin", "1 g", "1 mg", "1 lb", "1 oz",
+		"1 us", "1 µs", "1 min", "1 h", "1 kHz", "1 rpm", "1 mN", "1 kN", "1 kgf", "1 lbf", "1 J", "1 W", "1 mW",
+		"1 mV", "1 V", "1 A", "1 mA", "1 ohm", "1 Ω", "1 mohm", "1 mΩ", "1 C", "1 Ah", "1 gn", "5 %",
+		"10°", "+.5e-3 m", "1 m^-2", "1 m^99999999999999999999", "1 m/s/s", "1 kg*m/s^2*A/V", "1e-400 m",
+		"0x10 m", "1_000 m", "1 m s", "1 m*", "1 /", "-.inf", "1 deg/s^2", "1 N*m*s/rad", "1 rad^-1"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, text string) {
@@ -119,5 +126,38 @@ func FuzzParseQuantity(f *testing.F) {
 		if k.Name == "" {
 			t.Fatalf("%q gave no kind", text)
 		}
+		// The value written in the kind's SI unit with the shortest
+		// round-trip digits (strconv documentation) reads back exactly.
+		// Unnamed kinds are labelled for messages ("1/m^2", "s^5*A^3"),
+		// not in a form the reader need take.
+		if _, named := kindsByDim[k.Dim]; !named {
+			return
+		}
+		again := strconv.FormatFloat(v, 'g', -1, 64) + " " + k.Unit
+		back, bk, err := ParseQuantity(again)
+		if err != nil || back != v || bk.Dim != k.Dim {
+			t.Fatalf("%q gave %v %s, which reads back as %v %s (%v)", text, v, k.Unit, back, bk.Unit, err)
+		}
 	})
+}
+
+// A product of units has the sum of their powers (SI brochure, 9th edition,
+// section 2.3.4: derived units are products of powers of the base units).
+// Sums beyond what a Dim holds, and factors beyond a float64, are refused
+// rather than wrapped round or turned into NaN (regressions found by
+// FuzzParseQuantity).
+func TestUnitPowerSums(t *testing.T) {
+	v, k, err := ParseQuantity("2 m^4*m^4*m^4*m^4")
+	if err != nil || v != 2 || k.Dim != (Dim{dimM: 16}) {
+		t.Errorf("m^4 four times: %v %+v %v, want 2 of m^16", v, k, err)
+	}
+	for _, text := range []string{
+		"1 " + strings.TrimSuffix(strings.Repeat("m^4*", 32), "*"),   // m^128 would wrap to m^-128
+		"0 " + strings.TrimSuffix(strings.Repeat("km^4*", 30), "*"),  // factor 1e360 overflows; 0*Inf is NaN
+		"1 " + strings.TrimSuffix(strings.Repeat("um^-4*", 30), "*"), // same, from below
+	} {
+		if v, k, err := ParseQuantity(text); err == nil {
+			t.Errorf("%.30q... accepted as %v %s", text, v, k.Unit)
+		}
+	}
 }
