@@ -348,6 +348,7 @@ func (w *Window) ShowAndCapture(path string, after time.Duration) error {
 		time.Sleep(300 * time.Millisecond)
 		fyne.DoAndWait(func() {
 			result = w.Capture(path)
+			w.closing.Store(true)
 			w.app.Quit()
 		})
 	}()

@@ -8,6 +8,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sync/atomic"
 	"time"
 
 	"fyne.io/fyne/v2"
@@ -81,6 +82,9 @@ type Window struct {
 
 	keyShove float64 // N*s of a keyboard shove
 	tickStop chan struct{}
+	// closing is set once the application loop is ending: late redraws
+	// from the ticker are skipped rather than run off the UI thread.
+	closing atomic.Bool
 }
 
 // New opens the robot of opts and builds the window (not yet shown).
@@ -147,6 +151,7 @@ func (w *Window) SetStudies(content fyne.CanvasObject) {
 
 // ShowAndRun shows the window and runs the application until it closes.
 func (w *Window) ShowAndRun() {
+	w.app.Lifecycle().SetOnStopped(func() { w.closing.Store(true) })
 	w.startTicker()
 	w.win.ShowAndRun()
 	w.Close()
@@ -154,6 +159,7 @@ func (w *Window) ShowAndRun() {
 
 // Close stops the simulation.
 func (w *Window) Close() {
+	w.closing.Store(true)
 	if w.tickStop != nil {
 		close(w.tickStop)
 		w.tickStop = nil
@@ -173,7 +179,11 @@ func (w *Window) startTicker() {
 			case <-stop:
 				return
 			case <-t.C:
-				fyne.DoAndWait(w.refresh)
+				fyne.DoAndWait(func() {
+					if !w.closing.Load() {
+						w.refresh()
+					}
+				})
 			}
 		}
 	}()
