@@ -339,7 +339,7 @@ func TestConcurrentUse(t *testing.T) {
 	// Let both goroutines work until the simulation has made some progress
 	// a number of times over (reset sets time back to zero, so count rounds).
 	seen := 0
-	for last := uint64(0); seen < 200; {
+	for last := uint64(0); seen < 60; {
 		if v := run.Status().Version; v != last {
 			last = v
 			seen++
@@ -385,4 +385,22 @@ func TestAPanickingPlantStopsTheRunWithAnError(t *testing.T) {
 	}
 	must(t, run.SetParam("start", 0.1))
 	must(t, run.StepOnce())
+}
+
+func TestTickAllocatesNothing(t *testing.T) {
+	run, _ := newFake(t)
+	// The hot loop (a tick with its trace sample and a publish) must not
+	// allocate (project rule); the fake plant allocates nothing itself.
+	// Measured inside the runner's goroutine, which owns the plant.
+	var allocs float64
+	must(t, run.send(func() error {
+		allocs = testing.AllocsPerRun(200, func() {
+			run.tick()
+			run.publish()
+		})
+		return nil
+	}))
+	if allocs != 0 {
+		t.Fatalf("a tick allocates %g times", allocs)
+	}
 }
