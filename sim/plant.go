@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync"
 
 	"github.com/jakecoffman/cp/v2"
 
@@ -101,6 +102,11 @@ type bodyState struct {
 	a, w float64
 }
 
+// buildMu serialises building plants: cp numbers every body it makes (the
+// space's static body too) from a package-level counter, and studies and the
+// window build plants on several goroutines.
+var buildMu sync.Mutex
+
 // New builds a plant for the robot, driven by c (nil: every command zero).
 func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 	defer func() {
@@ -136,7 +142,7 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 		return nil, fmt.Errorf("sim: record capacity %d is negative", opt.RecordCapacity)
 	}
 	p.dt = 1 / p.physRate
-	if err := p.build(); err != nil {
+	if err := p.buildLocked(); err != nil {
 		return nil, fmt.Errorf("sim: robot %q: %w", r.Name, err)
 	}
 	p.shoves = slices.Clone(opt.Shoves)
@@ -219,6 +225,14 @@ func check(r *models.Robot) error {
 		}
 	}
 	return nil
+}
+
+// buildLocked builds the bodies and constraints under buildMu, released
+// even when cp panics on a model that slipped past our checks.
+func (p *Plant) buildLocked() error {
+	buildMu.Lock()
+	defer buildMu.Unlock()
+	return p.build()
 }
 
 func (p *Plant) addBody(name string, m, i float64, pos cp.Vector, angle float64) *cp.Body {

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"strings"
-	"sync"
 	"time"
 
 	"teeter/control"
@@ -83,10 +82,6 @@ func (r *Rig) Controller() (*control.Graph, error) {
 	return g, nil
 }
 
-// buildMu serialises making plants: the physics engine numbers its bodies
-// from a package-level counter that is not safe for concurrent use.
-var buildMu sync.Mutex
-
 // Build makes a fresh plant and controller. The controller rate comes from
 // the graph unless opt sets one.
 func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
@@ -103,9 +98,7 @@ func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
 	} else {
 		c = sim.NewHoldPose(r.Robot)
 	}
-	buildMu.Lock()
 	p, err := sim.New(r.Robot, c, opt)
-	buildMu.Unlock()
 	if err != nil {
 		return nil, nil, err
 	}
