@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
@@ -18,16 +19,30 @@ func kindOfUnit(unit string) (models.Kind, bool) {
 	if unit == "" {
 		return models.Dimensionless, true
 	}
-	_, k, err := models.ParseQuantity("1 " + unit)
-	if err != nil {
-		return models.Kind{}, false
+	if _, k, err := models.ParseQuantity("1 " + unit); err == nil {
+		return k, true
 	}
-	return k, true
+	// A reciprocal such as 1/s: the inverse of its denominator's kind.
+	if den, ok := strings.CutPrefix(unit, "1/"); ok {
+		if _, k, err := models.ParseQuantity("1 " + den); err == nil {
+			var d models.Dim
+			for i, e := range k.Dim {
+				d[i] = -e
+			}
+			return models.KindOf(d), true
+		}
+	}
+	return models.Kind{}, false
 }
 
 // parseValue reads an entry's text as a quantity of the given SI unit
 // within [lo, hi], or says why not.
 func parseValue(text, unit string, lo, hi float64) (float64, error) {
+	// The unit as the entry shows it may not be one the unit parser knows
+	// (1/s); a number followed by exactly that unit is a number in it.
+	if t := strings.TrimSpace(text); unit != "" && strings.HasSuffix(t, " "+unit) {
+		text = strings.TrimSpace(strings.TrimSuffix(t, unit))
+	}
 	var v float64
 	if k, ok := kindOfUnit(unit); ok {
 		var err error

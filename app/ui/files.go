@@ -166,7 +166,10 @@ func (w *Window) OpenRobot(path string) error {
 	return nil
 }
 
-// currentRobot is the robot with the window's parameter changes.
+// CurrentRobot is a copy of the robot as run: the file's robot with the
+// window's parameter and controller changes.
+func (w *Window) CurrentRobot() *models.Robot { return w.currentRobot() }
+
 func (w *Window) currentRobot() *models.Robot {
 	r := w.robot.Clone()
 	for p, v := range w.rparam {
@@ -196,8 +199,8 @@ func (w *Window) SaveRobot(path string) error {
 	return nil
 }
 
-// gainSet is the current gains as a gain set.
-func (w *Window) gainSet() control.GainSet {
+// Gains is the current gains as a gain set.
+func (w *Window) Gains() control.GainSet {
 	gs := control.GainSet{}
 	if w.spec != nil {
 		gs.Rate = w.spec.Rate
@@ -210,7 +213,7 @@ func (w *Window) gainSet() control.GainSet {
 
 // SaveGains writes the current gains (JSON for .json, else YAML).
 func (w *Window) SaveGains(path string) error {
-	return control.WriteGains(path, w.gainSet())
+	return control.WriteGains(path, w.Gains())
 }
 
 // LoadGains reads a gain set and applies all of it, or nothing when any
@@ -218,26 +221,35 @@ func (w *Window) SaveGains(path string) error {
 func (w *Window) LoadGains(path string) error {
 	gs, err := control.ReadGains(path)
 	if err == nil {
-		var ps models.Problems
-		for _, g := range gs.Gains {
-			row, ok := w.gainRows[g.Path]
-			switch {
-			case !ok:
-				ps.Add(g.Pos, "gains."+g.Path, "this controller has no such parameter")
-			case g.Value < row.info.Min || g.Value > row.info.Max:
-				ps.Add(g.Pos, "gains."+g.Path, "%g is out of range %g to %g", g.Value, row.info.Min, row.info.Max)
-			}
-		}
-		err = ps.Err()
+		err = w.ApplyGains(gs)
 	}
 	if err != nil {
 		w.showError("Could not load gains from "+path, err)
 		return err
 	}
+	w.notice.SetText(fmt.Sprintf("Loaded %d gains from %s", len(gs.Gains), path))
+	return nil
+}
+
+// ApplyGains sets every gain of a set, each undoable, or none of them when
+// any is unknown or out of range (a tuning study hands its result here).
+func (w *Window) ApplyGains(gs control.GainSet) error {
+	var ps models.Problems
+	for _, g := range gs.Gains {
+		row, ok := w.gainRows[g.Path]
+		switch {
+		case !ok:
+			ps.Add(g.Pos, "gains."+g.Path, "this controller has no such parameter")
+		case g.Value < row.info.Min || g.Value > row.info.Max:
+			ps.Add(g.Pos, "gains."+g.Path, "%g is out of range %g to %g", g.Value, row.info.Min, row.info.Max)
+		}
+	}
+	if err := ps.Err(); err != nil {
+		return err
+	}
 	for _, g := range gs.Gains {
 		w.setGain(g.Path, g.Value, false)
 	}
-	w.notice.SetText(fmt.Sprintf("Loaded %d gains from %s", len(gs.Gains), path))
 	return nil
 }
 

@@ -198,6 +198,17 @@ func TestEntriesRefuseBadText(t *testing.T) {
 	if f.Reason.Visible() {
 		t.Fatal("the reason stayed after a good entry")
 	}
+	// An integral gain in 1/s: shown as "0.4 1/s", which must read back, and
+	// the same dimension written in hertz (1 Hz = 1/s, SI) is accepted too.
+	applied = nil
+	ki := newNumberField("1/s", 0, 100, func(v float64) { applied = append(applied, v) })
+	ki.show(0.4)
+	if !ki.submit(ki.Entry.Text) || !ki.submit("2 Hz") || ki.submit("2 m") {
+		t.Fatalf("1/s entry: applied %v, reason %q", applied, ki.Reason.Text)
+	}
+	if len(applied) != 2 || applied[0] != 0.4 || applied[1] != 2 {
+		t.Fatalf("1/s entry applied %v, want 0.4 and 2", applied)
+	}
 }
 
 func TestBadRobotFileShowsEveryProblemAndKeepsTheSession(t *testing.T) {
