@@ -1,6 +1,10 @@
 package control
 
-import "testing"
+import (
+	"os"
+	"path/filepath"
+	"testing"
+)
 
 // FuzzParse checks that no controller text makes Parse or Build panic
 // (DEVELOPERS.md: nothing panics on any input). The seeds run with go test;
@@ -25,6 +29,12 @@ func FuzzParse(f *testing.F) {
 		"rate: 100 Hz\nblocks:\n  - {name: g, kind: gain, k: 1, input: .5x}",
 	} {
 		f.Add([]byte(s))
+	}
+	files, _ := filepath.Glob("../testdata/bad/controller_*.yaml")
+	for _, file := range append(files, "../testdata/good_controller.yaml") {
+		if data, err := os.ReadFile(file); err == nil {
+			f.Add(data)
+		}
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
 		spec, err := ParseBytes("f.yaml", data)

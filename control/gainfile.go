@@ -104,7 +104,10 @@ func ParseGains(file string, data []byte) (GainSet, error) {
 			}
 		case "rate":
 			hz, _, err := models.ParseQuantity(f.Value.Text, models.Frequency)
-			if err != nil || hz <= 0 {
+			switch {
+			case err != nil:
+				ps.Add(f.Value.Pos, "rate", "%v", err)
+			case hz <= 0:
 				ps.Add(f.Value.Pos, "rate", "rate is a positive frequency such as 200 Hz")
 			}
 			gs.Rate = hz
@@ -138,7 +141,7 @@ func ParseGains(file string, data []byte) (GainSet, error) {
 	}
 	for _, k := range []string{"format", "version", "gains"} {
 		if !seen[k] {
-			ps.Add(v.Pos, k, "missing: a gain set needs %s", k)
+			ps.Add(mapPos(&v), k, "missing: a gain set needs %s", k)
 		}
 	}
 	sortGains(gs.Gains)

@@ -425,9 +425,9 @@ func checkRobot(spec *Spec, channels, actuators []string, ps *models.Problems) {
 				}
 			}
 			if len(same) == 0 {
-				ps.Add(b.Pos, blockPath(b.Name)+".channel", "the robot has no sensor %q (for channel %q)", sensor, ch)
+				ps.Add(b.where("channel"), blockPath(b.Name)+".channel", "the robot has no sensor %q (for channel %q)", sensor, ch)
 			} else {
-				ps.Add(b.Pos, blockPath(b.Name)+".channel", "the robot has no channel %q (%s has %s)", ch, sensor, strings.Join(same, ", "))
+				ps.Add(b.where("channel"), blockPath(b.Name)+".channel", "the robot has no channel %q (%s has %s)", ch, sensor, strings.Join(same, ", "))
 			}
 		case "actuator":
 			a := b.Options["actuator"]
@@ -435,11 +435,11 @@ func checkRobot(spec *Spec, channels, actuators []string, ps *models.Problems) {
 				continue
 			}
 			if !contains(actuators, a) {
-				ps.Add(b.Pos, blockPath(b.Name)+".actuator", "the robot has no actuator %q (it has %s)", a, strings.Join(actuators, ", "))
+				ps.Add(b.where("actuator"), blockPath(b.Name)+".actuator", "the robot has no actuator %q (it has %s)", a, strings.Join(actuators, ", "))
 				continue
 			}
 			if other, dup := driver[a]; dup {
-				ps.Add(b.Pos, blockPath(b.Name)+".actuator", "actuator %q is already driven by block %s", a, other)
+				ps.Add(b.where("actuator"), blockPath(b.Name)+".actuator", "actuator %q is already driven by block %s", a, other)
 				continue
 			}
 			driver[a] = b.Name

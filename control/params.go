@@ -96,7 +96,7 @@ func (g *Graph) check(i int, v float64) error {
 		return fmt.Errorf("%s: %v is not a finite number", info.Path, v)
 	}
 	if v < info.Min || v > info.Max {
-		return fmt.Errorf("%s: %g is outside %s", info.Path, v, rangeText(info.Min, info.Max))
+		return fmt.Errorf("%s: %g %s", info.Path, v, outside(v, info.Min, info.Max))
 	}
 	return nil
 }

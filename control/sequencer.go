@@ -36,6 +36,7 @@ type Transition struct {
 	When  string
 	Above bool
 	Pos   models.Pos
+	index int // place in the file's list, for messages
 }
 
 func parseSequencer(r *reader) {
@@ -70,23 +71,23 @@ func parseSequencer(r *reader) {
 		r.add(f.Value.Pos, "states", "states is a list of at least one state")
 		return
 	}
-	first := map[string]bool{}
+	first := map[string]models.Pos{}
 	for i := range f.Value.Items {
 		st, ok := parseState(r, seq, &f.Value.Items[i], i)
 		if !ok {
 			continue
 		}
-		if first[st.Name] {
-			r.add(st.Pos, "states."+st.Name, "duplicate state name %q", st.Name)
+		if p, dup := first[st.Name]; dup {
+			r.add(st.Pos, "states."+st.Name, "duplicate state name %q (first used at line %d)", st.Name, p.Line)
 			continue
 		}
-		first[st.Name] = true
+		first[st.Name] = st.Pos
 		seq.States = append(seq.States, st)
 	}
 	for _, st := range seq.States {
-		for k, t := range st.Next {
-			if t.To != "" && !first[t.To] {
-				r.add(t.Pos, fmt.Sprintf("states.%s.next[%d].to", st.Name, k), "no state named %q", t.To)
+		for _, t := range st.Next {
+			if _, ok := first[t.To]; t.To != "" && !ok {
+				r.add(t.Pos, fmt.Sprintf("states.%s.next[%d].to", st.Name, t.index), "no state named %q", t.To)
 			}
 		}
 	}
@@ -165,7 +166,7 @@ func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bo
 }
 
 func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int) (Transition, bool) {
-	t := Transition{Pos: mapPos(v)}
+	t := Transition{Pos: mapPos(v), index: k}
 	where := fmt.Sprintf("states.%s.next[%d]", st.Name, k)
 	if v.Kind != models.Map {
 		r.add(v.Pos, where, "a transition is a mapping such as {after: 1 s, to: NAME}")

@@ -29,6 +29,8 @@ type BlockSpec struct {
 	// Options are the block's text settings: channel, actuator, signs,
 	// anti_windup.
 	Options map[string]string
+	// optionPos is where each option written in the file was read from.
+	optionPos map[string]models.Pos
 	// Sequence holds the states of a sequencer block.
 	Sequence *Sequence
 }
@@ -68,6 +70,15 @@ func (b *BlockSpec) value(name string) float64 {
 		return p.Value
 	}
 	return 0
+}
+
+// where is the position of an option's value, or of the block when the
+// option was not written.
+func (b *BlockSpec) where(option string) models.Pos {
+	if p, ok := b.optionPos[option]; ok {
+		return p
+	}
+	return b.Pos
 }
 
 func (b *BlockSpec) hasOutput(name string) bool {
@@ -160,7 +171,7 @@ func parseSpec(v *models.Value, ps *models.Problems) *Spec {
 			continue
 		}
 		if p, dup := first[b.Name]; dup {
-			ps.Add(b.Pos, blockPath(b.Name), "duplicate block name %q (first at %s)", b.Name, p)
+			ps.Add(b.Pos, blockPath(b.Name), "duplicate block name %q (first used at line %d)", b.Name, p.Line)
 			continue
 		}
 		first[b.Name] = b.Pos
@@ -218,7 +229,7 @@ func parseBlock(v *models.Value, index int, ps *models.Problems) *BlockSpec {
 		ps.Add(v.Pos, itemPath, "a block is a mapping with name, kind and its parameters, not %s", v.Kind)
 		return nil
 	}
-	b := &BlockSpec{Pos: mapPos(v), Options: map[string]string{}}
+	b := &BlockSpec{Pos: mapPos(v), Options: map[string]string{}, optionPos: map[string]models.Pos{}}
 	nameField, ok := v.Get("name")
 	switch {
 	case !ok:
@@ -235,9 +246,13 @@ func parseBlock(v *models.Value, index int, ps *models.Problems) *BlockSpec {
 		ps.Add(b.Pos, path+".kind", "missing: the kind of block (%s)", strings.Join(KindNames(), ", "))
 		return nil
 	}
+	if kindField.Value.Kind != models.Scalar {
+		ps.Add(kindField.Value.Pos, path+".kind", "kind is a word, not %s", kindField.Value.Kind)
+		return nil
+	}
 	b.Kind = kindField.Value.Text
 	def, ok := kinds[b.Kind]
-	if !ok || kindField.Value.Kind != models.Scalar {
+	if !ok {
 		ps.Add(kindField.Value.Pos, path+".kind", "unknown block kind %q (known: %s)", kindField.Value.Text, strings.Join(KindNames(), ", "))
 		return nil
 	}
@@ -366,11 +381,23 @@ func (r *reader) number(key string, n num) {
 	if err != nil {
 		r.add(f.Value.Pos, key, "%v", err)
 	} else if x < n.min || x > n.max {
-		r.add(f.Value.Pos, key, "%s %s is outside %s", key, f.Value.Text, rangeText(n.min, n.max))
+		r.add(f.Value.Pos, key, "%s %s %s", key, f.Value.Text, outside(x, n.min, n.max))
 	} else {
 		p.Value, p.Unit = x, unit
 	}
 	r.b.Params = append(r.b.Params, p)
+}
+
+// outside says how x misses [lo, hi]: "is below 0" when only a lower bound
+// is finite, "is outside 0 .. 1" when both are.
+func outside(x, lo, hi float64) string {
+	switch {
+	case math.IsInf(hi, 1) && x < lo:
+		return fmt.Sprintf("is below %g", lo)
+	case math.IsInf(lo, -1) && x > hi:
+		return fmt.Sprintf("is above %g", hi)
+	}
+	return "is outside " + rangeText(lo, hi)
 }
 
 func rangeText(lo, hi float64) string {
@@ -452,6 +479,7 @@ func (r *reader) text(key, def string, required bool, choices ...string) string 
 		}
 	}
 	r.b.Options[key] = s
+	r.b.optionPos[key] = f.Value.Pos
 	return s
 }
 
@@ -530,9 +558,10 @@ func (r *reader) wire() {
 	case models.List:
 		if len(f.Value.Items) > len(b.Inputs) {
 			r.ps.Add(f.Value.Pos, path, "%d sources given but a %s block has %d inputs (%s)", len(f.Value.Items), b.Kind, len(b.Inputs), portList(b))
-			return
 		}
-		for i := range f.Value.Items {
+		// The ports are wired all the same, so that they are not also
+		// reported as unconnected.
+		for i := range f.Value.Items[:min(len(f.Value.Items), len(b.Inputs))] {
 			set(i, &f.Value.Items[i], fmt.Sprintf("%s[%d]", path, i))
 		}
 	case models.Map:

@@ -37,7 +37,7 @@ blocks:
 blocks:
   - {name: a, kind: constant, value: 1}
   - {name: a, kind: constant, value: 2}`,
-			`c.yaml:4:5: controller.blocks.a: duplicate block name "a" (first at c.yaml:3:5)`},
+			`c.yaml:4:5: controller.blocks.a: duplicate block name "a" (first used at line 3)`},
 		{"algebraic loop", `rate: 100 Hz
 blocks:
   - {name: a, kind: gain, k: 1, input: c}
@@ -65,18 +65,18 @@ blocks: []`,
 		{"missing sensor", `rate: 100 Hz
 blocks:
   - {name: s, kind: sensor, channel: leg_imu.tilt}`,
-			`c.yaml:3:5: controller.blocks.s.channel: the robot has no sensor "leg_imu" (for channel "leg_imu.tilt")`},
+			`c.yaml:3:38: controller.blocks.s.channel: the robot has no sensor "leg_imu" (for channel "leg_imu.tilt")`},
 		{"missing channel", `rate: 100 Hz
 blocks:
   - {name: s, kind: sensor, channel: torso_imu.tlt}`,
-			`c.yaml:3:5: controller.blocks.s.channel: the robot has no channel "torso_imu.tlt" (torso_imu has torso_imu.tilt, torso_imu.rate, torso_imu.accel_tilt)`},
+			`c.yaml:3:38: controller.blocks.s.channel: the robot has no channel "torso_imu.tlt" (torso_imu has torso_imu.tilt, torso_imu.rate, torso_imu.accel_tilt)`},
 		{"missing actuator and a second driver", `rate: 100 Hz
 blocks:
   - {name: a, kind: actuator, actuator: knee, input: 0}
   - {name: b, kind: actuator, actuator: hip, input: 0}
   - {name: c, kind: actuator, actuator: hip, input: 0}`,
-			`c.yaml:3:5: controller.blocks.a.actuator: the robot has no actuator "knee" (it has hip, ankle)
-c.yaml:5:5: controller.blocks.c.actuator: actuator "hip" is already driven by block b`},
+			`c.yaml:3:41: controller.blocks.a.actuator: the robot has no actuator "knee" (it has hip, ankle)
+c.yaml:5:41: controller.blocks.c.actuator: actuator "hip" is already driven by block b`},
 		{"sequencer to an unknown state", `rate: 100 Hz
 blocks:
   - name: q
