@@ -8,38 +8,44 @@ import (
 	"fyne.io/fyne/v2/widget"
 )
 
-// helpText is the help tab: keys, mouse, signals and safety.
+// helpText is the help tab: keys, mouse, entries, signals and safety, as
+// markdown (lists rather than tables, which the rich text widget lacks).
 func helpText() string {
 	var b strings.Builder
 	b.WriteString(`## Keys
 
-| key | does |
-|---|---|
-| Space | run or pause |
-| . (full stop) | one controller tick |
-| R | reset: the robot stands again, gains kept |
-| ← → | shove the watched link left or right by the keyboard shove size (Shoves tab) |
-| F | freeze or unfreeze the plots |
-| P | pin this run as the reference |
-| + − 0 | zoom in, zoom out, fit |
-| Ctrl+Z, Ctrl+Shift+Z or Ctrl+Y | undo, redo a gain or robot change |
-| Ctrl+O, Ctrl+S | open a robot, save it |
+- **Space**: run or pause
+- **. (full stop)**: one controller tick
+- **R**: reset; the robot stands again, gains kept
+- **← →**: shove the watched link left or right by the keyboard shove size (Shoves tab)
+- **F**: freeze or unfreeze the plots
+- **P**: pin this run as the reference, drawn in grey behind the runs that follow
+- **+ − 0**: zoom in, zoom out, fit
+- **Ctrl+Z**, **Ctrl+Shift+Z** or **Ctrl+Y**: undo, redo a gain or robot change
+- **Ctrl+O**, **Ctrl+S**: open a robot, save it
 
 ## Mouse
 
-Press on a part of the robot, drag and release to shove it there: the arrow shows the impulse, ` + fmt.Sprintf("%g", shoveScale) + ` N*s per metre dragged (1 N*s per 10 cm), applied at the point you pressed. Drag on empty space to pan; scroll to zoom.
+Press on a part of the robot, drag and release to shove it: the arrow shows the impulse, ` + fmt.Sprintf("%g", shoveScale) + ` N·s per metre dragged (1 N·s per 10 cm), applied at the point pressed. Drag on empty space to pan; scroll to zoom. Over the plots, the pointer reads out each signal at that time.
 
 ## Entries
 
-Type a number with or without a unit: "2 mm", "0.5 deg", "30 mm/s". A bare number is in SI units. Text that is not a number, is out of range or has the wrong kind of unit is refused with the reason beside the entry and is not applied.
+Type a number with or without a unit: 2 mm, 0.5 deg, 30 mm/s. A bare number is in SI units. Text that is not a number, is out of range or has the wrong kind of unit is refused, with the reason beside the entry, and is not applied.
+
+## Drawing
+
+- Orange window on an actuator: its backlash; the bar is where the output sits in it, red when it rests on an edge (driving).
+- Pads turn green as they compress.
+- Quartered disc: centre of mass, with a dashed drop to its ground projection.
+- Green triangle: centre of pressure; green band: the support region.
+- Small orange squares: IMUs.
 
 ## Signals
 
-| name ends in | unit | meaning |
-|---|---|---|
 `)
 	for _, m := range signalMeanings {
-		fmt.Fprintf(&b, "| %s | %s | %s |\n", m.Suffix, m.Unit, m.Meaning)
+		// A middle dot, as markdown would read the * of N*m as emphasis.
+		fmt.Fprintf(&b, "- **%s** (%s): %s\n", m.Suffix, strings.ReplaceAll(m.Unit, "*", "·"), m.Meaning)
 	}
 	b.WriteString(`
 ## Safety

@@ -21,6 +21,7 @@ func (h *history) record(c change) {
 		h.done[n-1].New = c.New
 		h.done[n-1].open = c.open
 	} else {
+		h.close()
 		h.done = append(h.done, c)
 	}
 	h.undone = h.undone[:0]

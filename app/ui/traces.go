@@ -19,17 +19,22 @@ import (
 // signalMeaning says what a recorded signal is and its unit, from the end of
 // its name, for the legend and the help page.
 var signalMeanings = []struct{ Suffix, Unit, Meaning string }{
-	{".tilt", "rad", "IMU tilt of its link from upright, counter-clockwise positive (fused estimate)"},
-	{".rate", "rad/s", "IMU gyro: angular rate of its link"},
-	{".accel_tilt", "rad", "tilt seen by the IMU's accelerometer: disturbed by linear acceleration"},
-	{".position", "rad or m", "potentiometer reading of a joint or actuator, quantized"},
-	{".force", "N", "normal force on a foot pad from its load sensor"},
-	{".command", "-1..1", "PWM duty sent to an actuator"},
-	{".gap", "m or rad", "where an actuator's output sits in its backlash"},
-	{".out", "", "output of a controller block, in the unit of its input"},
-	{"com.x", "m", "centre of mass, horizontal position"},
+	{".tilt", "rad", "IMU: its link's angle from upright, counter-clockwise positive"},
+	{".rate", "rad/s", "IMU gyro: its link's angular rate"},
+	{".accel_tilt", "rad", "tilt seen by the IMU's accelerometer, disturbed by linear acceleration"},
+	{".position", "rad or m", "a joint's position, or a potentiometer's quantized reading of it"},
+	{".screw", "m or rad", "where an actuator's screw (nut) is"},
+	{".output", "m or rad", "where the actuator's output is; it may differ from the screw by up to half the backlash"},
+	{".gap", "m or rad", "output less screw: where the output sits in the backlash"},
+	{".command", "-1..1", "PWM duty the controller sends to an actuator"},
+	{".force", "N or N*m", "an actuator's load, or the normal force on a foot pad"},
+	{".current", "A", "current drawn by an actuator or from the battery"},
+	{".compression", "m", "how far a foot pad is pushed in"},
+	{"com.x", "m", "centre of mass, horizontal; com.y vertical"},
 	{"cop.x", "m", "centre of pressure on the ground"},
-	{"battery", "V", "battery terminal voltage"},
+	{"torso_tilt", "rad", "true tilt of the watched link, for the fall check"},
+	{"battery.voltage", "V", "battery terminal voltage"},
+	{".out", "", "output of a controller block (.p, .i, .d: a PID's three terms)"},
 }
 
 // unitOf is the unit of signal i: the plant's own when it gives units,
@@ -43,7 +48,7 @@ func unitOf(names, units []string, i int) string {
 
 func signalUnit(name string) string {
 	for _, m := range signalMeanings {
-		if strings.HasSuffix(name, m.Suffix) || strings.HasPrefix(name, m.Suffix) {
+		if strings.HasSuffix(name, m.Suffix) || name == m.Suffix {
 			return m.Unit
 		}
 	}
