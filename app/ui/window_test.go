@@ -508,3 +508,72 @@ func TestEditingTheGraphValidatesBeforeApplying(t *testing.T) {
 		t.Fatal(err)
 	}
 }
+
+func TestPlotsFreezeAndDrawThePinnedRunBehind(t *testing.T) {
+	w, _ := openTest(t, "builtin:pendulum")
+	for range 100 {
+		<-w.run.StepOnce()
+	}
+	w.run.PinReference()
+	<-w.run.Reset()
+	<-w.run.StepOnce()
+	w.refresh()
+	if !w.traces.hasRef || len(w.traces.ref.Time) < 20 {
+		t.Fatalf("the pinned run is not in the plots (%d samples)", len(w.traces.ref.Time))
+	}
+	img := w.traces.render(600, 400).(*image.RGBA)
+	grey := 0
+	for y := 0; y < 400; y++ {
+		for x := 0; x < 600; x++ {
+			if img.RGBAAt(x, y) == colReference {
+				grey++
+			}
+		}
+	}
+	if grey < 50 {
+		t.Fatalf("%d pixels of the reference colour: the pinned run is not drawn", grey)
+	}
+	// Frozen plots keep their data while the run goes on.
+	w.frozen = true
+	n := len(w.traces.data.Time)
+	for range 10 {
+		<-w.run.StepOnce()
+	}
+	w.refresh()
+	if len(w.traces.data.Time) != n {
+		t.Fatalf("frozen plots changed from %d to %d samples", n, len(w.traces.data.Time))
+	}
+	w.frozen = false
+	w.lastVer = 0
+	w.refresh()
+	if len(w.traces.data.Time) <= n {
+		t.Fatal("unfrozen plots did not catch up")
+	}
+}
+
+func TestZoomAndPanMoveTheView(t *testing.T) {
+	w, _ := openTest(t, "builtin:frontal")
+	w.view.render(600, 400)
+	before := w.view.v
+	w.view.Scrolled(&fyne.ScrollEvent{Scrolled: fyne.Delta{DY: 10}})
+	w.view.render(600, 400)
+	// One scroll step zooms by 1.1 (the view's stated step).
+	if r := w.view.v.Scale / before.Scale; math.Abs(r-1.1) > 1e-9 {
+		t.Fatalf("zoom ratio %g, want 1.1", r)
+	}
+	// A drag on empty sky pans: the world point under the pointer follows it.
+	at := fyne.NewPos(20, 20) // top left: sky, away from the robot
+	grabbed := w.view.toWorld(at)
+	w.view.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: at.Add(fyne.NewPos(30, 0))}, Dragged: fyne.Delta{DX: 30}})
+	w.view.DragEnd()
+	w.view.render(600, 400)
+	now := w.view.toWorld(at.Add(fyne.NewPos(30, 0)))
+	if math.Abs(now.X-grabbed.X) > 1e-9 || math.Abs(now.Y-grabbed.Y) > 1e-9 {
+		t.Fatalf("the grabbed point moved to %v, want %v under the pointer", now, grabbed)
+	}
+	w.view.resetView()
+	w.view.render(600, 400)
+	if w.view.v.Scale != before.Scale {
+		t.Fatal("fit did not return to the fitted view")
+	}
+}
