@@ -8,6 +8,8 @@ import (
 	"math/rand/v2"
 	"slices"
 
+	"gonum.org/v1/gonum/optimize"
+
 	"teeter/control"
 	"teeter/models"
 	"teeter/sim"
@@ -244,92 +246,37 @@ func kindsOf(n int, k paramKind) []paramKind {
 	return out
 }
 
-// NelderMead minimises f from x0 by the simplex method of Nelder and Mead
-// (Computer Journal 7, 1965) with the standard coefficients (reflection 1,
-// expansion 2, contraction 1/2, shrink 1/2; Lagarias et al., SIAM J. Optim.
-// 9, 1998). The first simplex is x0 and x0 plus step along each axis. It
-// stops after iterations iterations, when the simplex's values agree to
-// 1e-9 relative, or when ctx is done, and says which.
+// NelderMead minimises f from x0 with gonum's Nelder-Mead simplex method
+// (Nelder and Mead, Computer Journal 7, 1965), the first simplex spanning
+// step along each axis, for at most iterations simplex moves. It stops early
+// when ctx is cancelled and says why it stopped: "converged",
+// "iteration limit", "cancelled" or the optimiser's own status.
 func NelderMead(ctx context.Context, f func([]float64) float64, x0 []float64, step float64, iterations int) string {
-	n := len(x0)
-	pts := make([][]float64, n+1)
-	vals := make([]float64, n+1)
-	for i := range pts {
-		pts[i] = slices.Clone(x0)
-		if i > 0 {
-			pts[i][i-1] += step
-		}
-		vals[i] = f(pts[i])
+	settings := &optimize.Settings{
+		MajorIterations: iterations,
+		Converger:       &optimize.FunctionConverge{Absolute: 1e-9, Relative: 1e-9, Iterations: 4 * (len(x0) + 1)},
+		Recorder:        cancelRecorder{ctx},
 	}
-	along := func(c, p []float64, t float64) []float64 { // c + t*(p - c)
-		out := make([]float64, n)
-		for k := range out {
-			out[k] = c[k] + t*(p[k]-c[k])
-		}
-		return out
+	res, err := optimize.Minimize(optimize.Problem{Func: f}, x0, settings, &optimize.NelderMead{SimplexSize: step})
+	switch {
+	case ctx.Err() != nil:
+		return "cancelled"
+	case err != nil && res == nil:
+		return err.Error()
+	case res.Status == optimize.FunctionConvergence:
+		return "converged"
+	case res.Status == optimize.IterationLimit:
+		return "iteration limit"
+	default:
+		return res.Status.String()
 	}
-	for it := 0; it < iterations; it++ {
-		if ctx.Err() != nil {
-			return "cancelled"
-		}
-		order := make([]int, n+1)
-		for i := range order {
-			order[i] = i
-		}
-		slices.SortStableFunc(order, func(a, b int) int { return cmpCost(vals[a], vals[b]) })
-		ps, vs := make([][]float64, n+1), make([]float64, n+1)
-		for i, k := range order {
-			ps[i], vs[i] = pts[k], vals[k]
-		}
-		pts, vals = ps, vs
-		if math.Abs(vals[n]-vals[0]) <= 1e-9*(math.Abs(vals[0])+1e-12) {
-			return "converged"
-		}
-		centroid := make([]float64, n)
-		for _, p := range pts[:n] {
-			for k := range centroid {
-				centroid[k] += p[k] / float64(n)
-			}
-		}
-		xr := along(centroid, pts[n], -1)
-		fr := f(xr)
-		switch {
-		case fr < vals[0]:
-			xe := along(centroid, pts[n], -2)
-			if fe := f(xe); fe < fr {
-				pts[n], vals[n] = xe, fe
-			} else {
-				pts[n], vals[n] = xr, fr
-			}
-		case fr < vals[n-1]:
-			pts[n], vals[n] = xr, fr
-		default:
-			var xc []float64
-			if fr < vals[n] {
-				xc = along(centroid, xr, 0.5) // outside
-			} else {
-				xc = along(centroid, pts[n], 0.5) // inside
-			}
-			if fc := f(xc); fc < math.Min(fr, vals[n]) {
-				pts[n], vals[n] = xc, fc
-				continue
-			}
-			for i := 1; i <= n; i++ {
-				pts[i] = along(pts[0], pts[i], 0.5)
-				vals[i] = f(pts[i])
-			}
-		}
-	}
-	return "iteration limit"
 }
 
-// cmpCost orders costs with NaN last.
-func cmpCost(a, b float64) int {
-	switch {
-	case a < b || !math.IsNaN(a) && math.IsNaN(b):
-		return -1
-	case a > b || math.IsNaN(a) && !math.IsNaN(b):
-		return 1
-	}
-	return 0
+// cancelRecorder stops the optimiser once its context is cancelled.
+type cancelRecorder struct{ ctx context.Context }
+
+func (c cancelRecorder) Init() error { return nil }
+
+func (c cancelRecorder) Record(*optimize.Location, optimize.Operation, *optimize.Stats) error {
+	return c.ctx.Err()
 }
