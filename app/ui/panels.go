@@ -73,12 +73,13 @@ func (row *gainRow) object(w *Window) fyne.CanvasObject {
 	p := row.info
 	back := widget.NewButtonWithIcon("", theme.HistoryIcon(), func() { w.setGain(p.Path, p.Value, false) })
 	name := widget.NewLabel(p.Name)
+	name.Truncation = fyne.TextTruncateEllipsis
 	unit := p.Unit
 	if unit == "" {
 		unit = "—"
 	}
 	entry := container.NewGridWrap(fyne.NewSize(120, row.field.Entry.MinSize().Height), row.field.Entry)
-	nameBox := container.NewGridWrap(fyne.NewSize(130, name.MinSize().Height), name)
+	nameBox := container.NewGridWrap(fyne.NewSize(180, name.MinSize().Height), name)
 	unitLabel := widget.NewLabel(unit)
 	unitBox := container.NewGridWrap(fyne.NewSize(64, unitLabel.MinSize().Height), unitLabel)
 	top := container.NewBorder(nil, nil, nameBox, container.NewHBox(entry, unitBox, back), row.slider)

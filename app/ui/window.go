@@ -334,7 +334,11 @@ func (w *Window) reset() {
 // shove sends a shove from the mouse or keyboard to the runner.
 func (w *Window) shove(s sim.Shove) {
 	w.after(w.run.Shove(s))
-	w.notice.SetText(fmt.Sprintf("Shove on %s: %.2f N*s", s.Link, math.Hypot(s.Impulse.X, s.Impulse.Y)))
+	link := s.Link
+	if link == "" {
+		link = "the watched link"
+	}
+	w.notice.SetText(fmt.Sprintf("Shove on %s: %.2f N*s", link, math.Hypot(s.Impulse.X, s.Impulse.Y)))
 }
 
 // keyboardShove pushes the watched link sideways by the set size.
