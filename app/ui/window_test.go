@@ -252,6 +252,23 @@ func TestBadRobotFileShowsEveryProblemAndKeepsTheSession(t *testing.T) {
 	if err := <-w.run.StepOnce(); err != nil {
 		t.Fatalf("the kept session does not run: %v", err)
 	}
+	// The good file opens, replaces the session and joins the recent files.
+	good := filepath.Join(t.TempDir(), "good.yaml")
+	if err := os.WriteFile(good, src, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.OpenRobot(good); err != nil {
+		t.Fatal(err)
+	}
+	if w.robot == before || w.path != good {
+		t.Fatal("the good file did not replace the session")
+	}
+	if recent := w.app.Preferences().StringList(recentKey); len(recent) == 0 || recent[0] != good {
+		t.Fatalf("recent files %v, want %s first", recent, good)
+	}
+	if err := <-w.run.StepOnce(); err != nil {
+		t.Fatalf("the opened robot does not run: %v", err)
+	}
 }
 
 // dialogText gathers the text of the labels shown over the window.

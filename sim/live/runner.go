@@ -551,8 +551,9 @@ func (r *Runner[S]) SetParam(path string, v float64) <-chan error {
 	})
 }
 
-// SetRobot replaces the robot (a file was opened) and rebuilds, keeping
-// the gains that still exist in the new controller.
+// SetRobot replaces the robot (a file was opened, or its controller was
+// edited) and rebuilds, paused, with the new robot's own gains: gains set
+// before are forgotten. On error the old robot stays.
 func (r *Runner[S]) SetRobot(robot *models.Robot) <-chan error {
 	return r.send(func() error {
 		old, oldGains, oldList := r.robot, r.gains, r.gainList
