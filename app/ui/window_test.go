@@ -594,3 +594,28 @@ func TestZoomAndPanMoveTheView(t *testing.T) {
 		t.Fatal("fit did not return to the fitted view")
 	}
 }
+
+func TestScheduledShovesFromThePanelReachThePlant(t *testing.T) {
+	w, shoves := openTest(t, "builtin:frontal")
+	train := randomTrain(4, 2, 0.5, 7)
+	again := randomTrain(4, 2, 0.5, 7)
+	for i := range train {
+		j := math.Abs(train[i].Impulse.X)
+		// Sizes between 30 % and 100 % of the largest, as the panel states.
+		if j < 0.6-1e-9 || j > 2+1e-9 || (i > 0 && train[i].At <= train[i-1].At) || train[i] != again[i] {
+			t.Fatalf("train %+v (again %+v)", train, again)
+		}
+	}
+	w.shoves.list = train
+	w.shoves.changed()
+	<-w.run.SetSpeed(0)
+	<-w.run.Run()
+	for w.run.Status().Time <= train[1].At && w.run.Status().Err == nil && !w.run.Status().Fallen {
+		runtime.Gosched()
+	}
+	<-w.run.Pause()
+	got := shoves()
+	if len(got) < 2 || got[0].Impulse != train[0].Impulse || got[1].Impulse != train[1].Impulse {
+		t.Fatalf("plant got %+v, want the first two of %+v", got, train)
+	}
+}
