@@ -319,11 +319,10 @@ func (r *Runner[S]) loop() {
 			case <-r.quit:
 				return
 			case c := <-r.cmds:
-				wasRunning, oldSpeed := r.running, r.speed
+				// A command may have changed the speed or rebuilt the plant
+				// (time back to zero): pace from here.
 				r.handle(c)
-				if !wasRunning || r.speed != oldSpeed {
-					restartClock()
-				}
+				restartClock()
 			default:
 				drained = true
 			}
@@ -371,6 +370,7 @@ func (r *Runner[S]) loop() {
 					<-timer.C
 				}
 				r.handle(c)
+				restartClock()
 			case <-timer.C:
 			}
 		}
