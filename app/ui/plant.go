@@ -148,8 +148,13 @@ func sceneFromSnapshot(sc *scene, r *models.Robot, s *sim.Snapshot) {
 			}
 			p := pose(j.Parent).Apply(j.ParentAnchor)
 			if j.Kind == models.Prismatic {
-				// Along the slide: from the parent anchor to the child's.
-				sa.From, sa.To = p, pose(j.Child).Apply(j.ChildAnchor)
+				// A short sleeve along the slide, centred between the anchors.
+				c := pose(j.Child).Apply(j.ChildAnchor)
+				mid := models.Vec2{X: (p.X + c.X) / 2, Y: (p.Y + c.Y) / 2}
+				ax := pose(j.Parent).Rotate(j.Axis)
+				const half = 0.04 // m
+				sa.From = models.Vec2{X: mid.X - ax.X*half, Y: mid.Y - ax.Y*half}
+				sa.To = models.Vec2{X: mid.X + ax.X*half, Y: mid.Y + ax.Y*half}
 			} else {
 				sa.From, sa.To, sa.Rotary = p, p, true
 			}

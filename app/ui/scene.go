@@ -101,7 +101,7 @@ var (
 	colIMU        = color.RGBA{0xd3, 0x54, 0x00, 0xff}
 	colCOM        = color.RGBA{0x11, 0x11, 0x11, 0xff}
 	colCOP        = color.RGBA{0x2e, 0x8b, 0x57, 0xff}
-	colSupport    = color.RGBA{0x2e, 0x8b, 0x57, 0x60}
+	colSupport    = color.NRGBA{0x2e, 0x8b, 0x57, 0x70} // translucent: not premultiplied
 	colShove      = color.RGBA{0xc0, 0x39, 0x2b, 0xff}
 )
 
@@ -139,9 +139,6 @@ func drawScene(dc *gg.Context, sc *scene, v view) {
 		dc.Stroke()
 		drawBox(dc, b.Center, b.Angle, b.Size, b.Size, v, colBallast)
 	}
-	for _, a := range sc.Actuators {
-		drawActuator(dc, a, v)
-	}
 	for _, j := range sc.Joints {
 		x, y := v.toPixel(j)
 		r := math.Max(2.5, 0.012*v.Scale)
@@ -151,6 +148,10 @@ func drawScene(dc *gg.Context, sc *scene, v view) {
 		dc.SetColor(colOutline)
 		dc.SetLineWidth(1.5)
 		dc.Stroke()
+	}
+	// Actuators over the joints, so a slide's sleeve at a joint shows.
+	for _, a := range sc.Actuators {
+		drawActuator(dc, a, v)
 	}
 	for _, m := range sc.IMUs {
 		x, y := v.toPixel(m.At)
