@@ -133,7 +133,7 @@ func sceneFromSnapshot(sc *scene, r *models.Robot, s *sim.Snapshot) {
 		if i < len(r.Actuators) {
 			m = &r.Actuators[i]
 		}
-		sa := sceneActuator{Name: a.Name, AtEdge: a.AtEdge}
+		sa := sceneActuator{AtEdge: a.AtEdge}
 		if m != nil && m.Backlash > 0 {
 			sa.HasGap = true
 			sa.Gap = math.Max(-1, math.Min(1, a.Gap/(m.Backlash/2)))
@@ -173,7 +173,7 @@ func sceneFromSnapshot(sc *scene, r *models.Robot, s *sim.Snapshot) {
 		if travel > 0 {
 			frac = p.Compression / travel
 		}
-		sc.Pads = append(sc.Pads, scenePad{Center: p.Position, Angle: p.Angle, Width: p.Width, High: p.Thickness, Compression: frac, Load: p.Force})
+		sc.Pads = append(sc.Pads, scenePad{Center: p.Position, Angle: p.Angle, Width: p.Width, High: p.Thickness, Compression: frac})
 	}
 	sc.Ballast = nil
 	if s.HasBallast && r.Ballast != nil {
@@ -186,7 +186,7 @@ func sceneFromSnapshot(sc *scene, r *models.Robot, s *sim.Snapshot) {
 	}
 	sc.IMUs = sc.IMUs[:0]
 	for _, m := range s.IMUs {
-		sc.IMUs = append(sc.IMUs, sceneIMU{At: m.Position, Angle: m.Angle, Name: m.Name})
+		sc.IMUs = append(sc.IMUs, sceneIMU{At: m.Position, Angle: m.Angle})
 	}
 	sc.COM, sc.HasCOM = s.COM, true
 	sc.COP, sc.HasCOP = s.COP, s.InContact

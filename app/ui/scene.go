@@ -35,7 +35,6 @@ type sceneLink struct {
 }
 
 type sceneActuator struct {
-	Name     string
 	From, To models.Vec2 // world points; equal for a rotary actuator drawn at a joint
 	Rotary   bool
 	// Gap is where the output sits within the free play, -1..1 (the two
@@ -50,7 +49,6 @@ type scenePad struct {
 	Angle       float64
 	Width, High float64
 	Compression float64 // fraction of the free travel used, 0..1
-	Load        float64 // N
 }
 
 type sceneBallast struct {
@@ -64,7 +62,6 @@ type sceneBallast struct {
 type sceneIMU struct {
 	At    models.Vec2
 	Angle float64
-	Name  string
 }
 
 // view maps world metres to pixels: Scale pixels per metre, Center the
@@ -367,65 +364,6 @@ func drawCOM(dc *gg.Context, sc *scene, v view) {
 	dc.DrawLine(x-5, py, x+5, py)
 	dc.SetLineWidth(2)
 	dc.Stroke()
-}
-
-// sceneFromPoses draws the robot as the model places it, for a robot that
-// has no plant snapshot yet.
-func sceneFromPoses(r *models.Robot, poses map[string]models.Pose) *scene {
-	sc := &scene{GroundTilt: r.Ground.Tilt, StepX: r.Ground.StepX, StepHeight: r.Ground.StepHeight}
-	for _, l := range r.Links {
-		sc.Links = append(sc.Links, sceneLink{Name: l.Name, Pose: poses[l.Name], Shape: l.Shape, Root: l.Name == r.Root})
-	}
-	for _, j := range r.Joints {
-		sc.Joints = append(sc.Joints, poses[j.Parent].Apply(j.ParentAnchor))
-	}
-	for _, a := range r.Actuators {
-		switch {
-		case a.From != nil && a.To != nil:
-			sc.Actuators = append(sc.Actuators, sceneActuator{Name: a.Name,
-				From: poses[a.From.Link].Apply(a.From.Point), To: poses[a.To.Link].Apply(a.To.Point), HasGap: a.Backlash > 0})
-		case a.Joint != "":
-			if j := r.Joint(a.Joint); j != nil && j.Kind == models.Revolute {
-				p := poses[j.Parent].Apply(j.ParentAnchor)
-				sc.Actuators = append(sc.Actuators, sceneActuator{Name: a.Name, From: p, To: p, Rotary: true, HasGap: a.Backlash > 0})
-			}
-		}
-	}
-	for _, f := range r.Feet {
-		fp := poses[f.Link]
-		for _, p := range f.Pads {
-			sc.Pads = append(sc.Pads, scenePad{Center: fp.Apply(p.Position), Angle: fp.Angle, Width: p.Width, High: p.Thickness})
-		}
-	}
-	if b := r.Ballast; b != nil {
-		lp := poses[b.Link]
-		at := func(s float64) models.Vec2 {
-			return lp.Apply(models.Vec2{X: b.Origin.X + b.Axis.X*s, Y: b.Origin.Y + b.Axis.Y*s})
-		}
-		sc.Ballast = &sceneBallast{Center: at(b.Position), Angle: lp.Angle, Size: b.Size, RailA: at(b.Min), RailB: at(b.Max)}
-	}
-	for _, s := range r.Sensors {
-		if s.Kind == models.IMU {
-			lp := poses[s.Link]
-			l := r.Link(s.Link)
-			c := models.Vec2{}
-			if l != nil {
-				c = l.CenterOfMass()
-			}
-			sc.IMUs = append(sc.IMUs, sceneIMU{At: lp.Apply(c), Angle: lp.Angle, Name: s.Name})
-		}
-	}
-	var m, mx, my float64
-	for _, l := range r.Links {
-		c := poses[l.Name].Apply(l.CenterOfMass())
-		m += l.Mass
-		mx += l.Mass * c.X
-		my += l.Mass * c.Y
-	}
-	if m > 0 {
-		sc.COM, sc.HasCOM = models.Vec2{X: mx / m, Y: my / m}, true
-	}
-	return sc
 }
 
 // fitView frames the scene: the ground near the bottom, the robot's height

@@ -20,7 +20,6 @@ type shovePanel struct {
 	list  []sim.Shove
 	links []string
 	rows  *fyne.Container
-	key   *numberField
 }
 
 func newShovePanel(w *Window) *shovePanel {
@@ -37,8 +36,8 @@ func (p *shovePanel) setRobot(r *models.Robot) {
 }
 
 func (p *shovePanel) object() fyne.CanvasObject {
-	p.key = newNumberField("N*s", 0, 100, func(v float64) { p.w.keyShove = v })
-	p.key.show(p.w.keyShove)
+	key := newNumberField("N*s", 0, 100, func(v float64) { p.w.keyShove = v })
+	key.show(p.w.keyShove)
 
 	count := newNumberField("", 1, 100, nil)
 	count.show(5)
@@ -70,7 +69,7 @@ func (p *shovePanel) object() fyne.CanvasObject {
 	})
 	clearAll := widget.NewButton("Clear", func() { p.list = nil; p.changed() })
 	form := widget.NewForm(
-		widget.NewFormItem("Keyboard shove (← →)", p.key.object()),
+		widget.NewFormItem("Keyboard shove (← →)", key.object()),
 		widget.NewFormItem("Shoves in train", count.object()),
 		widget.NewFormItem("Largest impulse", size.object()),
 		widget.NewFormItem("Mean interval", gap.object()),

@@ -8,6 +8,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
+	"strings"
 	"sync/atomic"
 	"time"
 
@@ -471,28 +473,17 @@ func defaultSignals(names []string) []string {
 	var out []string
 	add := func(match func(string) bool) {
 		for _, n := range names {
-			if len(out) < 6 && match(n) && !contains(out, n) {
+			if len(out) < 6 && match(n) && !slices.Contains(out, n) {
 				out = append(out, n)
 			}
 		}
 	}
-	add(func(n string) bool { return hasSuffix(n, ".tilt") })
-	add(func(n string) bool { return hasSuffix(n, ".rate") })
-	add(func(n string) bool { return hasSuffix(n, ".command") })
+	add(func(n string) bool { return strings.HasSuffix(n, ".tilt") })
+	add(func(n string) bool { return strings.HasSuffix(n, ".rate") })
+	add(func(n string) bool { return strings.HasSuffix(n, ".command") })
 	add(func(string) bool { return true })
 	return out
 }
-
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
-}
-
-func hasSuffix(s, suf string) bool { return len(s) >= len(suf) && s[len(s)-len(suf):] == suf }
 
 // chooseSignals lets the user pick the plotted signals.
 func (w *Window) chooseSignals() {
