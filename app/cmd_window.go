@@ -1,8 +1,11 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
+	"os"
+	"runtime"
 	"time"
 
 	fyneapp "fyne.io/fyne/v2/app"
@@ -27,6 +30,11 @@ func cmdWindow(args []string, stdout, stderr io.Writer) error {
 	after, _, err := models.ParseQuantity(*afterText, models.Duration)
 	if err != nil || after < 0 {
 		return usageError{fmt.Errorf("--after %q: want a duration such as 3s", *afterText)}
+	}
+	if runtime.GOOS == "linux" && os.Getenv("DISPLAY") == "" && os.Getenv("WAYLAND_DISPLAY") == "" {
+		// Without this, the graphics driver panics on the first window.
+		return errors.New("no display to open the window on (DISPLAY is not set); " +
+			"run it from a desktop session, under xvfb-run, or use 'teeter run' for a headless run")
 	}
 	a := fyneapp.NewWithID("org.teeter.sim")
 	w, err := ui.New(a, ui.Options{Model: *model, Gains: *gains, Run: *screenshot == ""})

@@ -97,3 +97,12 @@ func TestExportIsDeterministic(t *testing.T) {
 		}
 	}
 }
+
+func TestWindowWithoutDisplayIsAClearError(t *testing.T) {
+	t.Setenv("DISPLAY", "")
+	t.Setenv("WAYLAND_DISPLAY", "")
+	code, _, errOut := runTeeter(t)
+	if code != 1 || !strings.Contains(errOut, "no display") {
+		t.Errorf("exit %d, stderr %q; want exit 1 and a message about the missing display", code, errOut)
+	}
+}
