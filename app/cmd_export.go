@@ -7,7 +7,6 @@ import (
 
 	"teeter/control"
 	"teeter/models"
-	"teeter/sim/study"
 )
 
 func init() {
@@ -16,15 +15,13 @@ func init() {
 
 func cmdExport(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("export", stderr)
-	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
-	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
-	gains := fs.String("gains", "", "gain set file applied on top of the controller's own values")
+	rf := addRigFlags(fs, true)
 	format := fs.String("format", "c-header", "json, yaml or c-header")
 	out := fs.String("out", "", "write to this file instead of standard output")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
-	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	rig, err := rf.load()
 	if err != nil {
 		return err
 	}
@@ -33,11 +30,11 @@ func cmdExport(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if g == nil {
-		return fmt.Errorf("robot %s has no controller graph to export", *model)
+		return fmt.Errorf("robot %s has no controller graph to export", *rf.model)
 	}
-	source := *model
-	if *gains != "" {
-		source += " with gains from " + *gains
+	source := *rf.model
+	if *rf.gains != "" {
+		source += " with gains from " + *rf.gains
 	}
 	var data []byte
 	switch *format {

@@ -19,9 +19,7 @@ func init() {
 
 func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("margin", stderr)
-	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
-	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
-	gains := fs.String("gains", "", "gain set file applied on top of the controller")
+	rf := addRigFlags(fs, true)
 	at := fs.String("at", "", "link to shove (default: the robot's fall-watch link, the torso)")
 	point := fs.String("point", "", "where on the link, x:y in the link frame (default: its centre of mass)")
 	dirs := fs.String("dir", "", "directions, comma separated: left, right, forward, back or degrees (default: left,right or back,forward by the robot's plane)")
@@ -35,7 +33,7 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
-	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	rig, err := rf.load()
 	if err != nil {
 		return err
 	}

@@ -7,7 +7,6 @@ import (
 
 	"teeter/models"
 	"teeter/sim"
-	"teeter/sim/study"
 )
 
 func init() {
@@ -16,9 +15,7 @@ func init() {
 
 func cmdRun(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("run", stderr)
-	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
-	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
-	gains := fs.String("gains", "", "gain set file (JSON or YAML) applied on top of the controller")
+	rf := addRigFlags(fs, true)
 	durText := fs.String("duration", "10s", "simulated time to run")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")
 	csvFile := fs.String("csv", "", "write every recorded signal to this CSV file")
@@ -40,7 +37,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) error {
 		}
 		opt.Shoves = append(opt.Shoves, s)
 	}
-	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	rig, err := rf.load()
 	if err != nil {
 		return err
 	}

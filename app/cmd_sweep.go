@@ -24,9 +24,7 @@ func init() {
 
 func cmdSweep(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("sweep", stderr)
-	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
-	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
-	gains := fs.String("gains", "", "gain set file applied on top of the controller")
+	rf := addRigFlags(fs, true)
 	var params, shoves multiFlag
 	fs.Var(&params, "param", "PATH=FROM:TO:STEPS, a robot parameter or a gain (repeat for a 2-D grid)")
 	fs.Var(&shoves, "shove", "a shove in every run, e.g. at=1s,impulse=2N*s,dir=left (repeatable)")
@@ -70,7 +68,7 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 			return usageError{err}
 		}
 	}
-	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	rig, err := rf.load()
 	if err != nil {
 		return err
 	}

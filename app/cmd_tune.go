@@ -20,8 +20,7 @@ func init() {
 
 func cmdTune(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("tune", stderr)
-	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
-	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
+	rf := addRigFlags(fs, false)
 	start := fs.String("start", "", "gain set file to start from (default: the controller's own values)")
 	paths := fs.String("gains", "", "gains to tune, comma separated, e.g. body_loop.kp,body_loop.kd")
 	var shoves multiFlag
@@ -40,7 +39,7 @@ func cmdTune(args []string, stdout, stderr io.Writer) error {
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
-	rig, err := study.LoadRig(*model, *ctrl, *start)
+	rig, err := study.LoadRig(*rf.model, *rf.controller, *start)
 	if err != nil {
 		return err
 	}

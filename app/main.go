@@ -16,6 +16,8 @@ import (
 	"fmt"
 	"io"
 	"os"
+
+	"teeter/sim/study"
 )
 
 // command is one subcommand of teeter.
@@ -101,3 +103,28 @@ type multiFlag []string
 
 func (m *multiFlag) String() string     { return fmt.Sprint(*m) }
 func (m *multiFlag) Set(v string) error { *m = append(*m, v); return nil }
+
+// rigFlags are the flags that choose what is simulated: the robot, its
+// controller and a gain set on top.
+type rigFlags struct {
+	model, controller, gains *string
+}
+
+// addRigFlags declares --model, --controller and, when gainsFlag is set,
+// --gains (tune uses that name for the gains it tunes).
+func addRigFlags(fs *flag.FlagSet, gainsFlag bool) rigFlags {
+	rf := rigFlags{
+		model:      fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file"),
+		controller: fs.String("controller", "", "controller: a file or builtin:NAME (default: the robot's own or built-in controller)"),
+	}
+	empty := ""
+	rf.gains = &empty
+	if gainsFlag {
+		rf.gains = fs.String("gains", "", "gain set file (JSON or YAML) applied on top of the controller")
+	}
+	return rf
+}
+
+func (rf rigFlags) load() (*study.Rig, error) {
+	return study.LoadRig(*rf.model, *rf.controller, *rf.gains)
+}
