@@ -1,0 +1,135 @@
+package study
+
+import (
+	"math"
+	"testing"
+
+	"teeter/control"
+	"teeter/models"
+	"teeter/sim"
+)
+
+// dominant is the mode of largest weight.
+func dominant(modes []Mode) Mode {
+	best := modes[0]
+	for _, m := range modes {
+		if m.Weight > best.Weight {
+			best = m
+		}
+	}
+	return best
+}
+
+func TestEraMassSpringDamper(t *testing.T) {
+	// A mass-spring-damper kicked by a unit impulse: x(t) =
+	// exp(-zeta wn t) sin(wd t)/(m wd), with wn = sqrt(k/m),
+	// zeta = c/(2 sqrt(k m)) and wd = wn sqrt(1-zeta^2) (Ogata, Modern
+	// Control Engineering, ch. 5). Sampled position and velocity as the two
+	// outputs; the realisation must give back wn and zeta.
+	const m, k, c, dt = 2.0, 180.0, 3.0, 0.01
+	wn := math.Sqrt(k / m)
+	zeta := c / (2 * math.Sqrt(k*m))
+	wd := wn * math.Sqrt(1-zeta*zeta)
+	y := make([][]float64, 300)
+	for i := range y {
+		tt := float64(i) * dt
+		e := math.Exp(-zeta * wn * tt)
+		x := e * math.Sin(wd*tt) / (m * wd)
+		v := e * (wd*math.Cos(wd*tt) - zeta*wn*math.Sin(wd*tt)) / (m * wd)
+		y[i] = []float64{x, v}
+	}
+	re, err := era(y, 2, 1, 0, 1e-6)
+	if err != nil {
+		t.Fatal(err)
+	}
+	re.T = dt
+	modes, err := re.modes()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(modes) != 1 {
+		t.Fatalf("want one mode, got %v", modes)
+	}
+	got := modes[0]
+	t.Logf("identified %.4f Hz, zeta %.4f; closed form %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
+	if math.Abs(got.FrequencyHz*2*math.Pi-wn)/wn > 1e-3 || math.Abs(got.Damping-zeta)/zeta > 1e-3 {
+		t.Errorf("identified %.5f rad/s, zeta %.5f; want %.5f rad/s, zeta %.5f", got.FrequencyHz*2*math.Pi, got.Damping, wn, zeta)
+	}
+}
+
+// pdPendulum is the built-in pendulum on a backdrivable torque motor at the
+// ankle (torque = torque per unit command times the command), with a PD
+// controller u = -a*tilt - b*rate at the physics rate, no sensor latency,
+// no joint friction, and stiff, well-damped pads so that the foot stays
+// put.
+func pdPendulum(t *testing.T, a, b, torque float64) *Rig {
+	t.Helper()
+	base, err := LoadRig("builtin:pendulum", "", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := base.Robot.Clone()
+	r.Battery = nil
+	for i := range r.Joints {
+		r.Joints[i].Friction = 0
+	}
+	act := &r.Actuators[0]
+	act.Kind = models.TorqueMotor
+	act.StallForce = torque
+	act.TimeConstant = 0
+	for i := range r.Sensors {
+		r.Sensors[i].Latency = 0
+		r.Sensors[i].Rate = 1000
+	}
+	for i := range r.Feet {
+		for k := range r.Feet[i].Pads {
+			r.Feet[i].Pads[k].Stiffness = 5e5
+			r.Feet[i].Pads[k].Damping = 3000
+		}
+	}
+	spec, err := control.ParseBytes("pd.yaml", []byte(`
+controller:
+  rate: 1000 Hz
+  blocks:
+    - {name: tilt, kind: sensor, channel: pole_imu.tilt}
+    - {name: rate, kind: sensor, channel: pole_imu.rate}
+    - {name: p, kind: gain, k: 1, input: tilt}
+    - {name: d, kind: gain, k: 1, input: rate}
+    - {name: u, kind: sum, signs: "--", input: [p, d]}
+    - {name: drive, kind: actuator, actuator: ankle, input: u}
+`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rig := &Rig{Robot: r, Spec: spec, Gains: &control.GainSet{Gains: []control.Gain{{Path: "p.k", Value: a}, {Path: "d.k", Value: b}}}}
+	if _, _, err := rig.Build(sim.Options{}); err != nil {
+		t.Fatal(err)
+	}
+	return rig
+}
+
+func TestModesOfPDPendulum(t *testing.T) {
+	// Linearised inverted pendulum on a torque-controlled ankle:
+	// I s^2 + (K b + c) s + (K a - m g d) = 0 (the inverted pendulum's
+	// characteristic equation, e.g. Ogata, ch. 3), with I the pole's inertia
+	// about the ankle (parallel-axis theorem), d the ankle-to-centre-of-mass
+	// distance, c the joint's viscous damping and g standard gravity.
+	const mass, icom, d, c, g = 1.5, 0.069, 0.633, 0.02, 9.80665 // from models/builtin/pendulum.yaml
+	const torque = 20.0                                            // N*m per unit command
+	inertia := icom + mass*d*d
+	wn := 2 * math.Pi * 2.0
+	zeta := 0.3
+	a := (inertia*wn*wn + mass*g*d) / torque
+	b := (2*zeta*wn*inertia - c) / torque
+	rig := pdPendulum(t, a, b, torque)
+	modes, err := rig.Modes(LineariseOptions{Span: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := dominant(modes)
+	t.Logf("modes:\n%s", ModeTable(modes, 0))
+	t.Logf("dominant %.4f Hz, zeta %.4f; characteristic equation %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
+	if math.Abs(got.FrequencyHz*2*math.Pi-wn)/wn > 0.03 || math.Abs(got.Damping-zeta)/zeta > 0.05 {
+		t.Errorf("identified %.4f Hz, zeta %.4f; want %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
+	}
+}
