@@ -202,6 +202,7 @@ func (w *Window) editController(edit func(ctrl *models.Value) error) error {
 	}
 	w.hist = history{}
 	w.buildGainRows()
+	w.buildStepButtons()
 	for path, v := range w.gains {
 		if row := w.gainRows[path]; row != nil {
 			row.show(v)

@@ -35,27 +35,44 @@ func kindOfUnit(unit string) (models.Kind, bool) {
 	return models.Kind{}, false
 }
 
+// friendlyUnit is the unit the window shows for an SI unit, and the factor
+// from SI to it: degrees for angles, millimetres for lengths. Everything
+// inside stays SI; only entries, labels and readouts use these.
+func friendlyUnit(si string) (string, float64) {
+	switch si {
+	case "rad":
+		return "deg", 180 / math.Pi
+	case "rad/s":
+		return "deg/s", 180 / math.Pi
+	case "m":
+		return "mm", 1000
+	case "m/s":
+		return "mm/s", 1000
+	}
+	return si, 1
+}
+
 // parseValue reads an entry's text as a quantity of the given SI unit
-// within [lo, hi], or says why not.
+// within [lo, hi], or says why not. Any unit of the right kind is taken; a
+// bare number is in the unit the entry shows (degrees for an angle).
 func parseValue(text, unit string, lo, hi float64) (float64, error) {
+	shown, factor := friendlyUnit(unit)
+	t := strings.TrimSpace(text)
 	// The unit as the entry shows it may not be one the unit parser knows
 	// (1/s); a number followed by exactly that unit is a number in it.
-	if t := strings.TrimSpace(text); unit != "" && strings.HasSuffix(t, " "+unit) {
-		text = strings.TrimSpace(strings.TrimSuffix(t, unit))
+	if shown != "" && strings.HasSuffix(t, " "+shown) {
+		t = strings.TrimSpace(strings.TrimSuffix(t, shown))
 	}
 	var v float64
-	if k, ok := kindOfUnit(unit); ok {
-		var err error
-		v, _, err = models.ParseQuantity(text, k)
+	if x, err := strconv.ParseFloat(t, 64); err == nil {
+		v = x / factor
+	} else if k, ok := kindOfUnit(unit); ok {
+		v, _, err = models.ParseQuantity(t, k)
 		if err != nil {
 			return 0, err
 		}
 	} else {
-		var err error
-		v, err = strconv.ParseFloat(text, 64)
-		if err != nil {
-			return 0, fmt.Errorf("%q is not a number", text)
-		}
+		return 0, fmt.Errorf("%q is not a number", text)
 	}
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, fmt.Errorf("%q is not a finite number", text)
@@ -66,17 +83,17 @@ func parseValue(text, unit string, lo, hi float64) (float64, error) {
 	return v, nil
 }
 
+// formatValue shows an SI value in the window's unit for it.
 func formatValue(v float64, unit string) string {
-	s := strconv.FormatFloat(v, 'g', 5, 64)
-	if math.IsInf(v, 1) {
-		s = "no limit"
-	} else if math.IsInf(v, -1) {
-		s = "no limit"
+	shown, factor := friendlyUnit(unit)
+	if math.IsInf(v, 0) {
+		return "no limit"
 	}
-	if unit == "" {
+	s := strconv.FormatFloat(v*factor, 'g', 5, 64)
+	if shown == "" {
 		return s
 	}
-	return s + " " + unit
+	return s + " " + shown
 }
 
 // numberField is an entry for one quantity: it applies a value only when

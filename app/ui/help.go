@@ -30,7 +30,7 @@ Press on a part of the robot, drag and release to shove it: the arrow shows the 
 
 ## Entries
 
-Type a number with or without a unit: 2 mm, 0.5 deg, 30 mm/s. A bare number is in SI units. Text that is not a number, is out of range or has the wrong kind of unit is refused, with the reason beside the entry, and is not applied.
+The window shows angles in degrees, lengths in millimetres, rates in deg/s and speeds in mm/s; files and studies keep SI. Type a number with or without a unit: 2 mm, 0.5 deg, 0.01 rad, 30 mm/s. A bare number is in the unit the entry shows. Text that is not a number, is out of range or has the wrong kind of unit is refused, with the reason beside the entry, and is not applied.
 
 ## Drawing
 
@@ -45,7 +45,7 @@ Type a number with or without a unit: 2 mm, 0.5 deg, 30 mm/s. A bare number is i
 `)
 	for _, m := range signalMeanings {
 		// A middle dot, as markdown would read the * of N*m as emphasis.
-		fmt.Fprintf(&b, "- **%s** (%s): %s\n", m.Suffix, strings.ReplaceAll(m.Unit, "*", "·"), m.Meaning)
+		fmt.Fprintf(&b, "- **%s** (%s): %s\n", m.Suffix, strings.ReplaceAll(shownUnits(m.Unit), "*", "·"), m.Meaning)
 	}
 	b.WriteString(`
 ## Safety
@@ -62,4 +62,13 @@ func helpContent() fyne.CanvasObject {
 	r := widget.NewRichTextFromMarkdown(helpText())
 	r.Wrapping = fyne.TextWrapWord
 	return r
+}
+
+// shownUnits turns a unit text such as "m or rad" into the window's units.
+func shownUnits(text string) string {
+	parts := strings.Split(text, " or ")
+	for i, p := range parts {
+		parts[i], _ = friendlyUnit(p)
+	}
+	return strings.Join(parts, " or ")
 }

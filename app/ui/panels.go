@@ -1,8 +1,10 @@
 package ui
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
@@ -22,6 +24,39 @@ type gainRow struct {
 	updating bool // set while the window moves the slider itself
 }
 
+// gainTier orders the gains panel: the loops a builder tunes first (PIDs,
+// splits, gains), then the other blocks, then sequences.
+func gainTier(kind string) int {
+	switch kind {
+	case "pid", "split", "gain":
+		return 0
+	case "sequencer":
+		return 2
+	}
+	return 1
+}
+
+// gainBlocks lists the blocks with tunable parameters in the panel's
+// order: by tier, and in the controller's order within a tier.
+func (w *Window) gainBlocks() (blocks []string, kind map[string]string) {
+	kind = map[string]string{}
+	order := map[string]int{}
+	if w.spec != nil {
+		for i, b := range w.spec.Blocks {
+			kind[b.Name], order[b.Name] = b.Kind, i
+		}
+	}
+	for _, p := range w.params {
+		if !slices.Contains(blocks, p.Block) {
+			blocks = append(blocks, p.Block)
+		}
+	}
+	slices.SortStableFunc(blocks, func(a, b string) int {
+		return cmp.Or(cmp.Compare(gainTier(kind[a]), gainTier(kind[b])), cmp.Compare(order[a], order[b]))
+	})
+	return blocks, kind
+}
+
 func (w *Window) buildGainRows() {
 	w.gainRows = map[string]*gainRow{}
 	w.gainBox.Objects = nil
@@ -31,17 +66,24 @@ func (w *Window) buildGainRows() {
 	undo := widget.NewButtonWithIcon("Undo", theme.ContentUndoIcon(), w.Undo)
 	redo := widget.NewButtonWithIcon("Redo", theme.ContentRedoIcon(), w.Redo)
 	w.gainBox.Add(container.NewHBox(undo, redo, widget.NewLabel("Changes apply at the next controller tick.")))
-	block := ""
-	for _, p := range w.params {
-		if p.Block != block {
-			block = p.Block
-			h := widget.NewLabelWithStyle(block, fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
-			w.gainBox.Add(widget.NewSeparator())
-			w.gainBox.Add(h)
+	blocks, kind := w.gainBlocks()
+	for _, block := range blocks {
+		rows := container.NewVBox()
+		for _, p := range w.params {
+			if p.Block == block {
+				row := w.newGainRow(p)
+				w.gainRows[p.Path] = row
+				rows.Add(row.object(w))
+			}
 		}
-		row := w.newGainRow(p)
-		w.gainRows[p.Path] = row
-		w.gainBox.Add(row.object(w))
+		if gainTier(kind[block]) == 2 {
+			// Sequences have many timings and set points: folded away.
+			w.gainBox.Add(widget.NewAccordion(widget.NewAccordionItem(block+" (sequence)", rows)))
+			continue
+		}
+		w.gainBox.Add(widget.NewSeparator())
+		w.gainBox.Add(widget.NewLabelWithStyle(block, fyne.TextAlignLeading, fyne.TextStyle{Bold: true}))
+		w.gainBox.Add(rows)
 	}
 	w.gainBox.Refresh()
 }
@@ -74,7 +116,7 @@ func (row *gainRow) object(w *Window) fyne.CanvasObject {
 	back := widget.NewButtonWithIcon("", theme.HistoryIcon(), func() { w.setGain(p.Path, p.Value, false) })
 	name := widget.NewLabel(p.Name)
 	name.Truncation = fyne.TextTruncateEllipsis
-	unit := p.Unit
+	unit, _ := friendlyUnit(p.Unit)
 	if unit == "" {
 		unit = "—"
 	}

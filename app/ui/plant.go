@@ -10,14 +10,15 @@ import (
 	"teeter/models"
 	"teeter/sim"
 	"teeter/sim/live"
+	"teeter/sim/study"
 )
 
 // physicsRate is the plant's step rate in the window.
 const physicsRate = 1000
 
-// loadSpec reads the controller section of a robot. A built-in robot
-// without one gets the built-in controller of the same name; other robots
-// without one get nil.
+// loadSpec finds a robot's controller as study.LoadRig does: the robot's
+// own controller section, else the built-in controller of a built-in robot
+// of the same name, else none (nil).
 func loadSpec(r *models.Robot) (*control.Spec, error) {
 	if r.Controller != nil {
 		return control.Parse(r.Controller)
@@ -35,28 +36,21 @@ type simPlant struct {
 	rec     *sim.Recorder
 }
 
-// buildPlant makes the plant and controller graph for a robot, the real
-// Build of the window's runner.
+// buildPlant makes the plant and controller graph for a robot through the
+// studies' glue (study.Rig), the real Build of the window's runner. The
+// controller runs at its own rate, at most the physics rate.
 func buildPlant(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
 	spec, err := loadSpec(r)
 	if err != nil {
 		return nil, nil, err
 	}
-	var graph *control.Graph
-	var ctrl sim.Controller
-	rate := 200.0
-	if spec != nil {
-		graph, err = control.Build(spec, sim.Channels(r), sim.ActuatorNames(r))
-		if err != nil {
-			return nil, nil, err
-		}
-		ctrl = graph
-		if graph.Rate() > 0 {
-			rate = graph.Rate()
-		}
+	rate := 200.0 // sim.HoldPose's rate when there is no controller graph
+	if spec != nil && spec.Rate > 0 {
+		rate = spec.Rate
 	}
 	rate = math.Min(rate, physicsRate)
-	p, err := sim.New(r, ctrl, sim.Options{PhysicsRate: physicsRate, ControlRate: rate, RecordCapacity: 2})
+	rig := study.Rig{Robot: r, Spec: spec}
+	p, graph, err := rig.Build(sim.Options{PhysicsRate: physicsRate, ControlRate: rate, RecordCapacity: 2})
 	if err != nil {
 		return nil, nil, err
 	}

@@ -196,20 +196,22 @@ func (tv *tracesView) draw(img *image.RGBA) {
 			tv.strokeSeries(img, &tv.ref, k, tx, ty, colReference, w)
 		}
 		tv.strokeSeries(img, &tv.data, k, tx, ty, col, w)
-		// Legend: name, unit, latest value and the range shown.
+		// Legend: name, unit, latest value and the range shown, in the
+		// window's units (degrees, millimetres); the data stay SI.
+		unit, f := friendlyUnit(unitOf(tv.names, tv.units, tv.shown[k]))
 		label := tv.names[tv.shown[k]]
-		if unit := unitOf(tv.names, tv.units, tv.shown[k]); unit != "" {
+		if unit != "" {
 			label += " [" + unit + "]"
 		}
 		if m := len(tv.data.Time); m > 0 && k < len(tv.data.Values) {
-			label += fmt.Sprintf("   %.4g", tv.data.Values[k][m-1])
+			label += fmt.Sprintf("   %.4g", tv.data.Values[k][m-1]*f)
 		}
 		drawText(img, tv.face, label, x0+2, top+12, 0, col)
-		drawText(img, tv.face, fmt.Sprintf("%.3g to %.3g", lo, hi), x1-2, top+12, 1, colPlotText)
+		drawText(img, tv.face, fmt.Sprintf("%.3g to %.3g %s", lo*f, hi*f, unit), x1-2, top+12, 1, colPlotText)
 		if tv.pointer >= x0 && tv.pointer <= x1 {
 			t := t0 + (tv.pointer-x0)/(x1-x0)*(t1-t0)
 			if v, ok := valueAt(&tv.data, k, t); ok {
-				drawText(img, tv.face, fmt.Sprintf("%.4g at %.3f s", v, t), tv.pointer+4, bottom-4, 0, colPlotText)
+				drawText(img, tv.face, fmt.Sprintf("%.4g %s at %.3f s", v*f, unit, t), tv.pointer+4, bottom-4, 0, colPlotText)
 			}
 		}
 	}

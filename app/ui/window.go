@@ -68,6 +68,7 @@ type Window struct {
 	notice  *widget.Label
 	runBtn  *widget.Button
 	speed   *widget.Select
+	stepBox *fyne.Container // start and stop buttons of the controller's sequences
 
 	gainRows  map[string]*gainRow
 	gainBox   *fyne.Container
@@ -229,7 +230,8 @@ func (w *Window) build() {
 	zoomIn := widget.NewButtonWithIcon("", theme.ZoomInIcon(), func() { w.view.zoomBy(1.25) })
 	zoomOut := widget.NewButtonWithIcon("", theme.ZoomOutIcon(), func() { w.view.zoomBy(0.8) })
 
-	bar := container.NewHBox(w.runBtn, stepBtn, resetBtn, widget.NewLabel("Speed"), w.speed,
+	w.stepBox = container.NewHBox()
+	bar := container.NewHBox(w.runBtn, stepBtn, resetBtn, widget.NewLabel("Speed"), w.speed, w.stepBox,
 		widget.NewSeparator(), zoomIn, zoomOut, fit, widget.NewSeparator(), w.status)
 	plotBar := container.NewHBox(signals, windowSel, freeze, pin, unpin)
 	plots := container.NewBorder(plotBar, nil, nil, nil, w.traces)
@@ -388,6 +390,7 @@ func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
 		w.gains[p.Path] = p.Value
 	}
 	w.buildGainRows()
+	w.buildStepButtons()
 	w.graph.setSpec(spec)
 	w.blockBox.Objects = []fyne.CanvasObject{widget.NewLabel("Select a block to see its parameters.")}
 	w.blockBox.Refresh()
@@ -513,4 +516,47 @@ func (w *Window) showError(title string, err error) {
 	scroll.SetMinSize(fyne.NewSize(560, 260))
 	dialog.NewCustom(title, "Close", scroll, w.win).Show()
 	w.notice.SetText(title)
+}
+
+// sequencers lists the controller's sequencer blocks that take both a
+// start and a stop request.
+func (w *Window) sequencers() []string {
+	var out []string
+	if w.spec == nil {
+		return nil
+	}
+	for _, b := range w.spec.Blocks {
+		if b.Kind == "sequencer" && b.Sequence != nil && slices.Contains(b.Sequence.Events, "start") && slices.Contains(b.Sequence.Events, "stop") {
+			out = append(out, b.Name)
+		}
+	}
+	return out
+}
+
+// buildStepButtons offers start and stop for each sequence of the
+// controller (the frontal controller's stepper walks on the spot).
+func (w *Window) buildStepButtons() {
+	w.stepBox.Objects = nil
+	seqs := w.sequencers()
+	for _, name := range seqs {
+		suffix := ""
+		if len(seqs) > 1 {
+			suffix = " (" + name + ")"
+		}
+		w.stepBox.Add(widget.NewSeparator())
+		w.stepBox.Add(widget.NewButton("Start stepping"+suffix, func() { w.requestEvent(name, "start") }))
+		w.stepBox.Add(widget.NewButton("Stop stepping"+suffix, func() { w.requestEvent(name, "stop") }))
+	}
+	w.stepBox.Refresh()
+}
+
+// requestEvent sends a start or stop to a sequence of the running graph.
+func (w *Window) requestEvent(block, event string) {
+	w.after(w.run.Request(block, event))
+	switch event {
+	case "start":
+		w.notice.SetText(block + ": start requested")
+	case "stop":
+		w.notice.SetText(block + ": stop requested")
+	}
 }

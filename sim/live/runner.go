@@ -528,6 +528,25 @@ func (r *Runner[S]) SetGain(path string, v float64) <-chan error {
 	})
 }
 
+// Requester is a controller that takes latched event requests, such as
+// "start" and "stop" for a sequencer block (a *control.Graph is one).
+type Requester interface {
+	Request(block, event string) error
+}
+
+// Request sends an event to a block of the controller before the next
+// tick. The request belongs to the current run: a reset or rebuild starts
+// the controller afresh.
+func (r *Runner[S]) Request(block, event string) <-chan error {
+	return r.send(func() error {
+		q, ok := r.tuner.(Requester)
+		if !ok {
+			return errors.New("this controller takes no requests")
+		}
+		return q.Request(block, event)
+	})
+}
+
 // SetParam changes one robot parameter; the plant is rebuilt with the gains
 // kept, and the run restarts from the beginning (paused if it was paused).
 func (r *Runner[S]) SetParam(path string, v float64) <-chan error {
