@@ -115,7 +115,7 @@ func TestModesOfPDPendulum(t *testing.T) {
 	// about the ankle (parallel-axis theorem), d the ankle-to-centre-of-mass
 	// distance, c the joint's viscous damping and g standard gravity.
 	const mass, icom, d, c, g = 1.5, 0.069, 0.633, 0.02, 9.80665 // from models/builtin/pendulum.yaml
-	const torque = 20.0                                            // N*m per unit command
+	const torque = 20.0                                          // N*m per unit command
 	inertia := icom + mass*d*d
 	wn := 2 * math.Pi * 2.0
 	zeta := 0.3
