@@ -2,7 +2,6 @@ package ui
 
 import (
 	"math"
-	"runtime"
 	"slices"
 	"strings"
 	"testing"
@@ -77,16 +76,14 @@ func TestStepButtonsStartTheSequence(t *testing.T) {
 	if lean < 0 {
 		t.Fatalf("no stepper.lean signal in %v", names)
 	}
+	// Ticks one at a time, so the run stops exactly where asked.
 	run := func(seconds float64) float64 {
-		<-w.run.SetSpeed(0)
-		<-w.run.Run()
 		end := w.run.Status().Time + seconds
-		for w.run.Status().Time < end && w.run.Status().Err == nil && !w.run.Status().Fallen {
-			runtime.Gosched()
+		for w.run.Status().Time < end-1e-9 {
+			if err := <-w.run.StepOnce(); err != nil {
+				t.Fatal(err)
+			}
 		}
-		<-w.run.Pause()
-		w.lastVer = 0
-		w.refresh()
 		var tr live.Trace
 		w.run.Recent(&tr, 0.05, []int{lean})
 		return tr.Values[0][len(tr.Values[0])-1]
