@@ -1,8 +1,17 @@
 package study
 
 import (
+	"errors"
+	"fmt"
 	"math"
 	"math/cmplx"
+	"slices"
+	"sort"
+
+	"gonum.org/v1/gonum/mat"
+
+	"teeter/models"
+	"teeter/sim"
 )
 
 // BacklashDF is the describing function of backlash of total play width
@@ -55,4 +64,216 @@ func BacklashCycle(g func(w float64) complex128, width, wlo, whi float64) (a, w,
 		}
 	}
 	return a, w, best, best < 1e-3
+}
+
+// The linear part of a loop closed through one screw's backlash is measured
+// from the rig itself: with no backlash the screw is rigid, so a slip d of
+// the screw (sim's NudgeScrew) enters the loop where the play would be. The
+// output then follows y = S d with S = 1/(1 + G), where G is everything the
+// output's motion does to the screw (sensors, controller, motor) in the
+// sign convention screw = -G y of BacklashCycle. The step response to the
+// slip is realised by the eigensystem realisation algorithm (linearise.go),
+// S(jw) read off the model, and G = 1/S - 1.
+
+// WobbleSpec asks for the backlash limit cycle of some screws.
+type WobbleSpec struct {
+	Actuators []string // lead screws given the backlash
+	Backlash  float64  // total play, m (or rad for rotary screws)
+	Duration  float64  // s of simulation (default 40)
+	Window    float64  // s at the end of it measured (default half the duration)
+	Seed      uint64
+	Lin       LineariseOptions // for the measurement of the linear part (Span default 3 s)
+}
+
+// WobblePrediction is the describing function's answer for one screw's
+// loop, the other screws held rigid.
+type WobblePrediction struct {
+	Actuator    string  `json:"actuator"`
+	Found       bool    `json:"found"`        // the harmonic balance has a solution
+	ScrewAmp    float64 `json:"screw_amp"`    // amplitude at the backlash's input (the screw), m or rad
+	OutputAmp   float64 `json:"output_amp"`   // at its output (the driven coordinate)
+	TiltAmp     float64 `json:"tilt_amp_deg"` // of the torso tilt
+	FrequencyHz float64 `json:"frequency_hz"` // of the cycle
+	Residual    float64 `json:"residual"`     // |1 + N G| at the solution
+	Rotary      bool    `json:"rotary"`       // amplitudes in rad, else m
+	CrossoverHz float64 `json:"crossover_hz"` // where |G| = 1, for orientation
+	PhaseDeg    float64 `json:"phase_deg"`    // arg G there
+}
+
+// WobbleResult puts the prediction beside the simulation.
+type WobbleResult struct {
+	Backlash    float64            `json:"backlash"`
+	Predictions []WobblePrediction `json:"predictions"`
+	// The simulation with the backlash in every listed screw.
+	Fell        bool               `json:"fell"`
+	TiltAmp     float64            `json:"sim_tilt_amp_deg"`
+	FrequencyHz float64            `json:"sim_frequency_hz"`
+	ScrewAmp    map[string]float64 `json:"sim_screw_amp"` // per screw, m or rad
+	OutputAmp   map[string]float64 `json:"sim_output_amp"`
+}
+
+// LinearPart measures the linear part G of the loop through one screw (see
+// above) and returns it as a function of w, with the frequency response
+// of the torso tilt to the screw's output, for converting amplitudes.
+func (r *Rig) LinearPart(actuator string, opt LineariseOptions) (g, tiltPerOutput func(w float64) complex128, err error) {
+	if opt.Span <= 0 {
+		opt.Span = 3
+	}
+	opt.defaults()
+	ideal := r.Ideal()
+	ks := screwKicks(ideal.Robot, opt)
+	k := slices.IndexFunc(ks, func(k kick) bool { return k.actuator == actuator })
+	if k < 0 {
+		return nil, nil, fmt.Errorf("wobble: %q is not a lead screw of %s", actuator, r.Robot.Name)
+	}
+	outputs := []string{actuator + ".output", "torso_tilt"}
+	res, err := ideal.measure(opt, ks[k:k+1], outputs, 400)
+	if err != nil {
+		return nil, nil, err
+	}
+	re, err := era(res.y, 2, 1, opt.Order, opt.Tol)
+	if err != nil {
+		return nil, nil, err
+	}
+	re.T = res.T
+	step := func(w float64) (y, tilt complex128) {
+		h := re.response(w)
+		// The slip is a step: S = H (1 - 1/z), and half a sample forward
+		// because the sampled differences lag the motion by that on average.
+		z := cmplx.Exp(complex(0, w*re.T))
+		f := (1 - 1/z) * cmplx.Sqrt(z)
+		return h[0] * f, h[1] * f
+	}
+	memo := map[float64]complex128{} // the harmonic balance asks for each w many times
+	g = func(w float64) complex128 {
+		if v, ok := memo[w]; ok {
+			return v
+		}
+		s, _ := step(w)
+		memo[w] = 1/s - 1
+		return memo[w]
+	}
+	tiltPerOutput = func(w float64) complex128 {
+		s, t := step(w)
+		return t / s
+	}
+	return g, tiltPerOutput, nil
+}
+
+// response is the realisation's frequency response C (zI - A)^-1 B at
+// z = exp(jwT), one value per output for a single input, solved in real
+// block form.
+func (re *realisation) response(w float64) []complex128 {
+	n, _ := re.a.Dims()
+	p, _ := re.c.Dims()
+	zr, zi := math.Cos(w*re.T), math.Sin(w*re.T)
+	m := mat.NewDense(2*n, 2*n, nil)
+	rhs := mat.NewDense(2*n, 1, nil)
+	for i := range n {
+		for j := range n {
+			v := -re.a.At(i, j)
+			m.Set(i, j, v)
+			m.Set(n+i, n+j, v)
+		}
+		m.Set(i, i, m.At(i, i)+zr)
+		m.Set(n+i, n+i, m.At(n+i, n+i)+zr)
+		m.Set(i, n+i, -zi)
+		m.Set(n+i, i, zi)
+		rhs.Set(i, 0, re.b.At(i, 0))
+	}
+	var x mat.Dense
+	out := make([]complex128, p)
+	if err := x.Solve(m, rhs); err != nil {
+		for i := range out {
+			out[i] = cmplx.NaN()
+		}
+		return out
+	}
+	for r := range p {
+		var s complex128
+		for i := range n {
+			s += complex(re.c.At(r, i)*x.At(i, 0), re.c.At(r, i)*x.At(n+i, 0))
+		}
+		out[r] = s
+	}
+	return out
+}
+
+// Wobble predicts the backlash limit cycle of each listed screw's loop by
+// the describing function and runs the rig with the backlash in all of
+// them to measure the real one.
+func (r *Rig) Wobble(spec WobbleSpec) (*WobbleResult, error) {
+	if len(spec.Actuators) == 0 {
+		return nil, errors.New("wobble: no actuators given")
+	}
+	if !(spec.Backlash > 0) {
+		return nil, errors.New("wobble: the backlash must be positive")
+	}
+	if spec.Duration <= 0 {
+		spec.Duration = 40
+	}
+	if spec.Window <= 0 || spec.Window > spec.Duration {
+		spec.Window = spec.Duration / 2
+	}
+	res := &WobbleResult{Backlash: spec.Backlash, ScrewAmp: map[string]float64{}, OutputAmp: map[string]float64{}}
+	for _, name := range spec.Actuators {
+		g, tilt, err := r.LinearPart(name, spec.Lin)
+		if err != nil {
+			return nil, err
+		}
+		pr := WobblePrediction{Actuator: name}
+		if i := slices.IndexFunc(r.Robot.Actuators, func(a models.Actuator) bool { return a.Name == name }); i >= 0 {
+			pr.Rotary = rotary(r.Robot, &r.Robot.Actuators[i])
+		}
+		pr.CrossoverHz, pr.PhaseDeg = crossover(g, 2*math.Pi*0.05, 2*math.Pi*50)
+		a, w, resid, ok := BacklashCycle(g, spec.Backlash, 2*math.Pi*0.05, 2*math.Pi*20)
+		pr.Residual = resid
+		if ok {
+			pr.Found = true
+			pr.ScrewAmp = a
+			pr.OutputAmp = a * cmplx.Abs(BacklashDF(a, spec.Backlash))
+			pr.TiltAmp = pr.OutputAmp * cmplx.Abs(tilt(w)) * 180 / math.Pi
+			pr.FrequencyHz = w / (2 * math.Pi)
+		}
+		res.Predictions = append(res.Predictions, pr)
+	}
+	sr := &Rig{Robot: r.Robot.Clone(), Spec: r.Spec, Gains: r.Gains}
+	for _, name := range spec.Actuators {
+		if err := models.SetParam(sr.Robot, "actuators."+name+".backlash", spec.Backlash); err != nil {
+			return nil, err
+		}
+	}
+	o, err := sr.Execute(spec.Duration, sim.Options{Seed: spec.Seed})
+	if err != nil {
+		return nil, err
+	}
+	res.Fell = o.Summary.Fell
+	// A slow hunt needs a longer look than the osc_ metrics' window.
+	t := o.Rec.Column("time")
+	i := sort.SearchFloat64s(t, t[len(t)-1]-spec.Window)
+	if len(t)-i >= 16 {
+		dt := (t[len(t)-1] - t[i]) / float64(len(t)-1-i)
+		a, f := SpectralPeak(o.Rec.Column("torso_tilt")[i:], dt)
+		res.TiltAmp, res.FrequencyHz = a*180/math.Pi, f
+		for _, name := range spec.Actuators {
+			res.ScrewAmp[name], _ = SpectralPeak(o.Rec.Column(name + ".screw")[i:], dt)
+			res.OutputAmp[name], _ = SpectralPeak(o.Rec.Column(name + ".output")[i:], dt)
+		}
+	}
+	return res, nil
+}
+
+// crossover finds where |g| falls through 1 on a log scan of wlo..whi,
+// in Hz, with the phase of g there in degrees; NaN if it does not.
+func crossover(g func(w float64) complex128, wlo, whi float64) (hz, phase float64) {
+	prev := cmplx.Abs(g(wlo))
+	for i := 1; i <= 400; i++ {
+		w := wlo * math.Pow(whi/wlo, float64(i)/400)
+		v := cmplx.Abs(g(w))
+		if prev >= 1 && v < 1 {
+			return w / (2 * math.Pi), cmplx.Phase(g(w)) * 180 / math.Pi
+		}
+		prev = v
+	}
+	return math.NaN(), math.NaN()
 }

@@ -1,0 +1,46 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+
+	"teeter/sim/study"
+)
+
+func init() {
+	commands = append(commands, command{"modes", "closed-loop modes of the standing robot: frequency and damping", cmdModes})
+}
+
+func cmdModes(args []string, stdout, stderr io.Writer) error {
+	fs := newFlags("modes", stderr)
+	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
+	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
+	gains := fs.String("gains", "", "gain set file applied on top of the controller")
+	spanText := fs.String("span", "4s", "response time used for the fit")
+	order := fs.Int("order", 0, "model order (default: from the singular values)")
+	minWeight := fs.Float64("min-weight", 0.01, "leave out modes carrying less than this share of the response")
+	seed := fs.Uint64("seed", 1, "seed")
+	asJSON := fs.Bool("json", false, "print every mode as JSON")
+	if err := parseFlags(fs, args); err != nil {
+		return err
+	}
+	span, err := parseDuration(*spanText)
+	if err != nil {
+		return err
+	}
+	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	if err != nil {
+		return err
+	}
+	modes, err := rig.Modes(study.LineariseOptions{Span: span, Order: *order, Seed: *seed})
+	if err != nil {
+		return err
+	}
+	if *asJSON {
+		return json.NewEncoder(stdout).Encode(modes)
+	}
+	fmt.Fprintf(stdout, "closed-loop modes of %s standing (identified from kicks; no noise, quantization, deadband or backlash):\n", rig.Robot.Name)
+	fmt.Fprint(stdout, study.ModeTable(modes, *minWeight))
+	return nil
+}
