@@ -283,6 +283,10 @@ type param struct {
 	info  ParamInfo
 	ptr   *float64
 	owner block
+	// upper and lower are the parameters this one must stay at or below,
+	// and at or above (a limit pair), or -1.
+	upper, lower int
+	atMost       string
 }
 
 type request struct {
@@ -334,7 +338,7 @@ func (c *buildContext) bind(b *BlockSpec, name string, field *float64) {
 	info := ParamInfo{Path: b.Name + "." + name, Block: b.Name, Name: name, Value: p.Value, Unit: p.Unit, Min: p.Min, Max: p.Max}
 	info.SliderMin, info.SliderMax = sliderRange(p)
 	c.g.byPath[info.Path] = len(c.g.params)
-	c.g.params = append(c.g.params, param{info: info, ptr: field})
+	c.g.params = append(c.g.params, param{info: info, ptr: field, upper: -1, lower: -1, atMost: p.AtMost})
 }
 
 func (c *buildContext) channel(b *BlockSpec) int {
@@ -399,6 +403,12 @@ func Build(spec *Spec, channels, actuators []string) (*Graph, error) {
 		g.order = append(g.order, built[i])
 	}
 	g.vals = make([]float64, c.literalAt+len(g.literals))
+	for i := range g.params {
+		p := &g.params[i]
+		if j, ok := g.byPath[p.info.Block+"."+p.atMost]; ok && p.atMost != "" {
+			p.upper, g.params[j].lower = j, i
+		}
+	}
 	g.want = make([]float64, len(g.params))
 	g.dirty = make([]bool, len(g.params))
 	for i, p := range g.params {

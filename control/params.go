@@ -113,9 +113,25 @@ func (g *Graph) Set(path string, v float64) error {
 		return err
 	}
 	g.mu.Lock()
+	defer g.mu.Unlock()
+	if err := g.checkPair(i, v, func(j int) float64 { return g.want[j] }); err != nil {
+		return err
+	}
 	g.want[i], g.dirty[i] = v, true
 	g.pending.Store(true)
-	g.mu.Unlock()
+	return nil
+}
+
+// checkPair refuses a value that would cross the other limit of its pair;
+// value gives the other parameter's value as it will be.
+func (g *Graph) checkPair(i int, v float64, value func(j int) float64) error {
+	p := &g.params[i]
+	if j := p.upper; j >= 0 && v > value(j) {
+		return fmt.Errorf("%s: %g is above %s, %g", p.info.Path, v, g.params[j].info.Path, value(j))
+	}
+	if j := p.lower; j >= 0 && v < value(j) {
+		return fmt.Errorf("%s: %g is below %s, %g", p.info.Path, v, g.params[j].info.Path, value(j))
+	}
 	return nil
 }
 
@@ -179,11 +195,25 @@ func (g *Graph) Apply(gs GainSet) error {
 		return err
 	}
 	g.mu.Lock()
+	defer g.mu.Unlock()
+	next := func(j int) float64 {
+		if v, ok := gs.Lookup(g.params[j].info.Path); ok {
+			return v
+		}
+		return g.want[j]
+	}
+	for _, e := range gs.Gains {
+		if err := g.checkPair(g.byPath[e.Path], e.Value, next); err != nil {
+			ps.Add(e.Pos, "gains."+e.Path, "%v", err)
+		}
+	}
+	if err := ps.Err(); err != nil {
+		return err
+	}
 	for _, e := range gs.Gains {
 		i := g.byPath[e.Path]
 		g.want[i], g.dirty[i] = e.Value, true
 	}
 	g.pending.Store(true)
-	g.mu.Unlock()
 	return nil
 }

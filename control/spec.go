@@ -53,7 +53,10 @@ type Param struct {
 	Tunable bool
 	// Min and Max bound the values the parameter accepts.
 	Min, Max float64
-	Pos      models.Pos
+	// AtMost names a parameter of the same block this one may not exceed,
+	// as a low limit may not exceed its high limit.
+	AtMost string
+	Pos    models.Pos
 }
 
 func (b *BlockSpec) param(name string) *Param {
@@ -427,6 +430,7 @@ func (r *reader) limits(key string, q quantity, required bool) bool {
 	pmin := Param{Name: "min", Unit: q.kinds[0].Unit, Tunable: true, Min: -inf, Max: inf, Pos: r.pos}
 	pmax := pmin
 	pmax.Name = "max"
+	pmin.AtMost = "max"
 	{
 		pmin.Pos, pmax.Pos = f.Value.Pos, f.Value.Pos
 		if f.Value.Kind != models.List || len(f.Value.Items) != 2 {
