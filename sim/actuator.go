@@ -110,7 +110,7 @@ func (p *Plant) buildActuator(m *models.Actuator, a *actuator) error {
 	case driveBallast:
 		c.geometry, c.axis = limitAxis, a.bal.axis
 	}
-	a.limit = newScrewLimit(c, a.screw, actuatorCorrection)
+	a.limit = newScrewLimit(c, a.screw)
 	a.limit.mount = m.MountStiffness
 	p.space.AddConstraint(a.limit.Constraint)
 	if a.bal != nil {

@@ -34,6 +34,7 @@ type joint struct {
 	pAnchor       cp.Vector // body-local anchors
 	cAnchor       cp.Vector
 	axis          cp.Vector // prismatic: slide direction in the parent frame
+	lower, upper  float64   // prismatic: the slide's ends
 }
 
 // position is the joint coordinate: the child's angle relative to the
@@ -73,6 +74,8 @@ type ballast struct {
 	origin cp.Vector // body-local
 	axis   cp.Vector // link frame
 	size   float64
+	lower  float64 // the slide's ends
+	upper  float64
 	limit  *screwLimit // holds or drives it along the slide
 }
 
@@ -82,15 +85,12 @@ func (b *ballast) position() float64 {
 	return b.body.Position().Sub(lb.LocalToWorld(b.origin)).Dot(lb.Rotation().Rotate(b.axis))
 }
 
-// Per-step fractions of position error removed by the constraints' bias,
-// expressed per second as cp wants. cp's default is about 0.6 % per step at
-// 1 kHz. More than a few percent on the joints made the frontal robot's
-// closed loop (torso, both legs, the ground) pump energy into the hip
-// screws after a foot landed, until it blew up.
-const (
-	jointCorrection    = 0.01
-	actuatorCorrection = 0.1
-)
+// jointCorrection is the per-step fraction of position error removed by
+// the bias of the joint limits, expressed per second as cp wants. cp's
+// default is about 0.6 % per step at 1 kHz. The joints themselves and the
+// screws have no bias: their error is removed by moving the bodies (see
+// project.go).
+const jointCorrection = 0.01
 
 func errorBias(fraction, rate float64) float64 { return math.Pow(1-fraction, rate) }
 

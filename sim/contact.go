@@ -374,7 +374,6 @@ type screwLimit struct {
 	*cp.Constraint
 	coord
 	Min, Max, Speed float64
-	correction      float64 // fraction of a violation removed per step
 	mount           float64 // series stiffness; 0 is rigid
 	gamma           float64 // soft edges: the softness of the step
 	lo, hi          bool    // soft edges: which is overshot this step
@@ -385,19 +384,19 @@ type screwLimit struct {
 	jLo, jHi float64 // accumulated impulses: jLo >= 0 pushes q up, jHi <= 0 down
 }
 
-func newScrewLimit(c coord, q, correction float64) *screwLimit {
-	l := &screwLimit{coord: c, Min: q, Max: q, correction: correction}
+func newScrewLimit(c coord, q float64) *screwLimit {
+	l := &screwLimit{coord: c, Min: q, Max: q}
 	l.Constraint = cp.NewConstraint(l, c.a, c.b)
 	return l
 }
 
 // edgeRate is the speed at which q may close a gap to an edge in a step:
-// all of it when clear of the edge, a fraction of a violation.
+// all of it when clear of the edge, none when past it.
 func (l *screwLimit) edgeRate(gap, dt float64) float64 {
 	if gap >= 0 {
 		return gap / dt
 	}
-	return l.correction * gap / dt
+	return 0 // past the edge: held there; the plant moves it back (project)
 }
 
 func (l *screwLimit) PreStep(dt float64) {

@@ -244,6 +244,13 @@ func (p *Plant) addBody(name string, m, i float64, pos cp.Vector, angle float64)
 	return b
 }
 
+// noBias turns off a constraint's position correction: the plant moves
+// the bodies itself (project).
+func noBias(c *cp.Constraint) *cp.Constraint {
+	c.SetErrorBias(1)
+	return c
+}
+
 func (p *Plant) addConstraint(c *cp.Constraint, correction float64) *cp.Constraint {
 	c.SetErrorBias(errorBias(correction, p.physRate))
 	return p.space.AddConstraint(c)
@@ -314,7 +321,7 @@ func (p *Plant) build() error {
 	if b := p.ballast; b != nil && b.limit == nil {
 		// No actuator drives it: hold it where it was written.
 		c := coord{geometry: limitAxis, a: b.link.body, b: b.body, anchorA: b.origin, axis: b.axis}
-		b.limit = newScrewLimit(c, r.Ballast.Position, actuatorCorrection)
+		b.limit = newScrewLimit(c, r.Ballast.Position)
 		p.space.AddConstraint(b.limit.Constraint)
 	}
 	p.battery = newBattery(r.Battery)
@@ -339,7 +346,7 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 	a, b := par.body, ch.body
 	switch mj.Kind {
 	case models.Revolute:
-		p.addConstraint(cp.NewPivotJoint2(a, b, j.pAnchor, j.cAnchor), jointCorrection)
+		p.space.AddConstraint(noBias(cp.NewPivotJoint2(a, b, j.pAnchor, j.cAnchor)))
 		if mj.HasLimits {
 			p.addConstraint(cp.NewRotaryLimitJoint(a, b, mj.Lower, mj.Upper), jointCorrection)
 		}
@@ -365,8 +372,9 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 			lo, hi = mj.Lower, mj.Upper
 		}
 		// The groove's ends are the joint limits.
-		p.addConstraint(cp.NewGrooveJoint(a, b, j.pAnchor.Add(j.axis.Mult(lo)), j.pAnchor.Add(j.axis.Mult(hi)), j.cAnchor), jointCorrection)
-		p.addConstraint(cp.NewGearJoint(a, b, 0, 1), jointCorrection)
+		j.lower, j.upper = lo, hi
+		p.space.AddConstraint(noBias(cp.NewGrooveJoint(a, b, j.pAnchor.Add(j.axis.Mult(lo)), j.pAnchor.Add(j.axis.Mult(hi)), j.cAnchor)))
+		p.space.AddConstraint(noBias(cp.NewGearJoint(a, b, 0, 1)))
 		if mj.Stiffness > 0 || mj.Damping > 0 {
 			c := coord{geometry: limitAxis, a: a, b: b, anchorA: j.pAnchor, anchorB: j.cAnchor, axis: j.axis}
 			p.space.AddConstraint(newSoftSpring(c, mj.Initial, mj.Stiffness, mj.Damping).Constraint)
@@ -441,9 +449,9 @@ func (p *Plant) buildBallast(mb *models.Ballast) error {
 	if !(hi > lo) {
 		lo, hi = mb.Position, mb.Position
 	}
-	p.addConstraint(cp.NewGrooveJoint(l.body, body, origin.Add(axis.Mult(lo)), origin.Add(axis.Mult(hi)), cp.Vector{}), jointCorrection)
-	p.addConstraint(cp.NewGearJoint(l.body, body, 0, 1), jointCorrection)
-	p.ballast = &ballast{name: mb.Name, link: l, body: body, origin: origin, axis: axis, size: mb.Size}
+	p.space.AddConstraint(noBias(cp.NewGrooveJoint(l.body, body, origin.Add(axis.Mult(lo)), origin.Add(axis.Mult(hi)), cp.Vector{})))
+	p.space.AddConstraint(noBias(cp.NewGearJoint(l.body, body, 0, 1)))
+	p.ballast = &ballast{name: mb.Name, link: l, body: body, origin: origin, axis: axis, size: mb.Size, lower: lo, upper: hi}
 	return nil
 }
 
@@ -552,6 +560,7 @@ func (p *Plant) Step() (err error) {
 		p.acts[i].before(p.dt, voltage, p.battery.nominal)
 	}
 	p.space.Step(p.dt)
+	p.project()
 	p.step++
 	current := 0.0
 	for i := range p.acts {
