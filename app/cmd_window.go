@@ -24,6 +24,7 @@ func cmdWindow(args []string, stdout, stderr io.Writer) error {
 	gains := fs.String("gains", "", "gain set file applied at the start")
 	screenshot := fs.String("screenshot", "", "render the window to this PNG file and exit")
 	afterText := fs.String("after", "3s", "with --screenshot: how long to run before the picture")
+	restore := fs.Bool("restore", false, "restore the session left by a window that did not close normally, without asking")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
@@ -37,7 +38,8 @@ func cmdWindow(args []string, stdout, stderr io.Writer) error {
 			"run it from a desktop session, under xvfb-run, or use 'teeter run' for a headless run")
 	}
 	a := fyneapp.NewWithID("org.teeter.sim")
-	w, err := ui.New(a, ui.Options{Model: *model, Gains: *gains, Run: *screenshot == ""})
+	w, err := ui.New(a, ui.Options{Model: *model, Gains: *gains, Run: *screenshot == "",
+		Autosave: *screenshot == "", Restore: *restore && *screenshot == ""})
 	if err != nil {
 		return err
 	}

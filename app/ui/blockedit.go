@@ -176,8 +176,8 @@ func (w *Window) editController(edit func(ctrl *models.Value) error) error {
 	next.Controller = ctrl
 	if err == nil {
 		run := next.Clone()
-		for p, v := range w.rparam {
-			_ = models.SetParam(run, p, v)
+		for _, p := range w.rorder {
+			_ = models.SetParam(run, p, w.rparam[p])
 		}
 		err = <-w.run.SetRobot(run)
 	}
@@ -213,6 +213,7 @@ func (w *Window) editController(edit func(ctrl *models.Value) error) error {
 	w.blockBox.Refresh()
 	w.lastVer = 0
 	w.notice.SetText("Controller changed: the run restarted")
+	w.autosave()
 	return nil
 }
 

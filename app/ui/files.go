@@ -6,8 +6,6 @@ import (
 	"image"
 	"image/png"
 	"io"
-	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"time"
@@ -22,33 +20,8 @@ import (
 	"teeter/sim/live"
 )
 
-// writeFileAtomic writes through a temporary file in the same directory and
-// renames it over the target, so a failed write never leaves half a file.
-func writeFileAtomic(path string, write func(io.Writer) error) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*.tmp")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	bw := bufio.NewWriter(f)
-	err = write(bw)
-	if err == nil {
-		err = bw.Flush()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-	}
-	return err
-}
-
 func savePNG(path string, img image.Image) error {
-	return writeFileAtomic(path, func(w io.Writer) error { return png.Encode(w, img) })
+	return models.WriteFileAtomic(path, func(w io.Writer) error { return png.Encode(w, img) })
 }
 
 const recentKey = "recent_files"
@@ -146,10 +119,21 @@ func (w *Window) saveFile(name string, do func(string) error) {
 // line and leaves the current session as it was.
 func (w *Window) OpenRobot(path string) error {
 	r, err := models.Load(path)
-	var spec *control.Spec
 	if err == nil {
-		spec, err = loadSpec(r)
+		err = w.installRobot(r, path)
 	}
+	if err != nil {
+		w.showError("Could not open "+path+"; the current robot is kept", err)
+		return err
+	}
+	w.addRecent(path)
+	return nil
+}
+
+// installRobot checks a loaded robot and its controller and, when both
+// are good, runs it in place of the current one.
+func (w *Window) installRobot(r *models.Robot, path string) error {
+	spec, err := loadSpec(r)
 	if err == nil && spec != nil {
 		_, err = control.Build(spec, sim.Channels(r), sim.ActuatorNames(r))
 	}
@@ -157,11 +141,9 @@ func (w *Window) OpenRobot(path string) error {
 		err = <-w.run.SetRobot(r.Clone())
 	}
 	if err != nil {
-		w.showError("Could not open "+path+"; the current robot is kept", err)
 		return err
 	}
 	w.setModel(r, path, spec)
-	w.addRecent(path)
 	w.refresh()
 	return nil
 }
@@ -172,8 +154,25 @@ func (w *Window) CurrentRobot() *models.Robot { return w.currentRobot() }
 
 func (w *Window) currentRobot() *models.Robot {
 	r := w.robot.Clone()
-	for p, v := range w.rparam {
-		_ = models.SetParam(r, p, v)
+	for _, p := range w.rorder {
+		_ = models.SetParam(r, p, w.rparam[p])
+	}
+	return r
+}
+
+// robotToSave is the robot as run, with the controller written out: a
+// built-in robot's built-in controller goes into the file, so the file
+// runs the same controller when opened again.
+func (w *Window) robotToSave() *models.Robot {
+	r := w.currentRobot()
+	if r.Controller == nil && w.spec != nil {
+		if w.ctrl == nil {
+			w.ctrl, _ = controllerValue(w.robot)
+		}
+		if w.ctrl != nil {
+			c := copyValue(*w.ctrl)
+			r.Controller = &c
+		}
 	}
 	return r
 }
@@ -191,7 +190,7 @@ func (w *Window) saveRobotAs() { w.saveFile("robot.yaml", w.SaveRobot) }
 // SaveRobot writes the robot with the parameter changes made in the window
 // (gains are saved with SaveGains).
 func (w *Window) SaveRobot(path string) error {
-	if err := models.SaveFile(path, w.currentRobot()); err != nil {
+	if err := models.SaveFile(path, w.robotToSave()); err != nil {
 		return err
 	}
 	w.path = path
@@ -264,7 +263,7 @@ func (w *Window) ExportHeader(path string) error {
 		rate = w.spec.Rate
 	}
 	data := control.CHeader(params, rate, w.robot.Source)
-	return writeFileAtomic(path, func(wr io.Writer) error { _, err := wr.Write(data); return err })
+	return models.WriteFileAtomic(path, func(wr io.Writer) error { _, err := wr.Write(data); return err })
 }
 
 // ExportCSV writes every recorded signal of the rolling trace.
@@ -278,7 +277,7 @@ func (w *Window) ExportCSV(path string) error {
 	}
 	var tr live.Trace
 	w.run.Recent(&tr, 1e9, idx)
-	return writeFileAtomic(path, func(wr io.Writer) error {
+	return models.WriteFileAtomic(path, func(wr io.Writer) error {
 		bw := bufio.NewWriter(wr)
 		bw.WriteString("time [s]")
 		for _, i := range idx {

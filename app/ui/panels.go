@@ -156,6 +156,7 @@ func (w *Window) applyGain(path string, v float64) {
 	if row := w.gainRows[path]; row != nil {
 		row.show(v)
 	}
+	w.autosave()
 }
 
 // Undo reverts the last gain or robot change.
@@ -279,10 +280,7 @@ func (w *Window) buildRobotRows() {
 		f.apply = func(v float64) {
 			// Check against the model first, so a bad value shows beside
 			// the entry and is never applied.
-			probe := w.robot.Clone()
-			for p, x := range w.rparam {
-				_ = models.SetParam(probe, p, x)
-			}
+			probe := w.currentRobot()
 			if err := models.SetParam(probe, rp.Path, v); err != nil {
 				f.Reason.SetText(err.Error())
 				f.Reason.Show()
@@ -303,9 +301,11 @@ func (w *Window) buildRobotRows() {
 
 func (w *Window) applyRobotParam(path string, v float64) {
 	w.rparam[path] = v
+	w.rorder = append(slices.DeleteFunc(w.rorder, func(p string) bool { return p == path }), path)
 	w.live = w.currentRobot()
 	w.after(w.run.SetParam(path, v))
 	w.lastVer = 0
 	// A group path (every actuator, every pad) changes the members shown.
 	w.buildRobotRows()
+	w.autosave()
 }

@@ -39,6 +39,12 @@ type Options struct {
 	Speed float64
 	// Run starts the simulation at once instead of paused.
 	Run bool
+	// Autosave keeps a copy of the session in the autosave directory
+	// (autosaveDir) and, at the start, offers back one left by a session
+	// that did not close normally.
+	Autosave bool
+	// Restore restores such a session without asking (implies Autosave).
+	Restore bool
 }
 
 // runner is the live runner the window drives.
@@ -57,6 +63,8 @@ type Window struct {
 	params []control.ParamInfo // file values
 	gains  map[string]float64  // current values as set from the window
 	rparam map[string]float64  // robot parameter changes from the window
+	rorder []string            // their paths, in the order last changed
+	ctrl   *models.Value       // the built-in controller section, for files of a built-in robot
 	hist   history
 
 	view    *robotView
@@ -77,6 +85,8 @@ type Window struct {
 	robotBox  *fyne.Container
 	shoves    *shovePanel
 	studies   *fyne.Container
+	study     *studiesPanel
+	saver     *autosaver
 	frozen    bool
 	window    float64
 	shown     []string
@@ -137,6 +147,9 @@ func newWindow(a fyne.App, opts Options, build live.Build[sim.Snapshot]) (*Windo
 		<-run.Run()
 	}
 	w.refresh()
+	if opts.Autosave || opts.Restore {
+		w.startAutosave(opts.Restore)
+	}
 	return w, nil
 }
 
@@ -160,9 +173,19 @@ func (w *Window) ShowAndRun() {
 	w.Close()
 }
 
-// Close stops the simulation.
+// Close stops the simulation and the studies; the autosave is removed, as
+// this is a normal exit.
 func (w *Window) Close() {
 	w.closing.Store(true)
+	for _, j := range []*studyJob{w.study.margin, w.study.sweep, w.study.tune} {
+		if j.cancel != nil {
+			j.cancel()
+		}
+	}
+	if w.saver != nil {
+		w.saver.closeClean()
+		w.saver = nil
+	}
 	if w.tickStop != nil {
 		close(w.tickStop)
 		w.tickStop = nil
@@ -177,7 +200,7 @@ func (w *Window) startTicker() {
 	go func() {
 		t := time.NewTicker(33 * time.Millisecond)
 		defer t.Stop()
-		for {
+		for frame := 1; ; frame++ {
 			select {
 			case <-stop:
 				return
@@ -185,6 +208,9 @@ func (w *Window) startTicker() {
 				fyne.DoAndWait(func() {
 					if !w.closing.Load() {
 						w.refresh()
+						if frame%150 == 0 { // about every 5 s
+							w.autosave()
+						}
 					}
 				})
 			}
@@ -244,7 +270,8 @@ func (w *Window) build() {
 	w.graph = newGraphView(w.showBlock)
 	w.robotBox = container.NewVBox()
 	w.shoves = newShovePanel(w)
-	w.studies = container.NewStack(container.NewCenter(widget.NewLabel("Studies (recovery margin, sweeps, tuning) will be here.")))
+	w.study = newStudiesPanel(w)
+	w.studies = container.NewStack(w.study.object())
 	graphScroll := container.NewScroll(container.New(&fixedLayout{g: w.graph}, w.graph.content))
 	addBlock := widget.NewButtonWithIcon("Add block…", theme.ContentAddIcon(), w.addBlockDialog)
 	graphTab := container.NewBorder(container.NewHBox(addBlock, widget.NewLabel("Select a block to tune, rewire or remove it.")), nil, nil, nil,
@@ -378,7 +405,7 @@ func (w *Window) typedKey(e *fyne.KeyEvent) {
 // setModel installs a newly loaded robot: panels, graph, traces.
 func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
 	w.robot, w.live, w.path, w.spec = r, r, path, spec
-	w.gains, w.rparam = map[string]float64{}, map[string]float64{}
+	w.gains, w.rparam, w.rorder, w.ctrl = map[string]float64{}, map[string]float64{}, nil, nil
 	w.hist = history{}
 	w.params = nil
 	if spec != nil {
@@ -404,6 +431,9 @@ func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
 		title = path
 	}
 	w.win.SetTitle("teeter — " + title)
+	blocks, _ := w.gainBlocks()
+	w.study.setRobot(r, w.params, blocks)
+	w.autosave()
 }
 
 // refresh redraws what changed since the last call.

@@ -40,6 +40,9 @@ func (s shoveLog) Shove(sh sim.Shove) error {
 // plant's shoves are logged.
 func openTest(t testing.TB, model string) (*Window, func() []sim.Shove) {
 	t.Helper()
+	// Studies save their results beside the autosave directory: keep both
+	// out of the user's configuration.
+	t.Setenv(AutosaveEnv, filepath.Join(t.TempDir(), "autosave"))
 	a := test.NewTempApp(t)
 	var mu sync.Mutex
 	var got []sim.Shove

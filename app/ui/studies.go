@@ -1,0 +1,527 @@
+package ui
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"image"
+	"image/png"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strconv"
+	"strings"
+	"time"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/container"
+	"fyne.io/fyne/v2/theme"
+	"fyne.io/fyne/v2/widget"
+
+	"teeter/control"
+	"teeter/models"
+	"teeter/sim"
+	"teeter/sim/study"
+)
+
+// The studies tab runs the studies of sim/study on the window's robot and
+// gains as they are when a study starts: each in its own goroutine with a
+// progress bar and a cancel button, its result shown in the tab and saved
+// in the studies directory beside the autosave.
+
+// studyJob is the running part every study shares.
+type studyJob struct {
+	startBtn, cancelBtn *widget.Button
+	bar                 *widget.ProgressBar
+	status              *widget.Label
+	result              *fyne.Container
+	cancel              context.CancelFunc
+	// done is closed once a run has ended and its result is shown.
+	done chan struct{}
+	// do runs a function on the UI thread (fyne.Do; tests run their own).
+	do func(func())
+}
+
+func newStudyJob(title string, start func(), do func(func())) *studyJob {
+	j := &studyJob{bar: widget.NewProgressBar(), status: widget.NewLabel(""), result: container.NewVBox(), do: do}
+	j.status.Wrapping = fyne.TextWrapWord
+	j.startBtn = widget.NewButtonWithIcon(title, theme.MediaPlayIcon(), start)
+	j.cancelBtn = widget.NewButtonWithIcon("Cancel", theme.CancelIcon(), func() {
+		if cancel := j.cancel; cancel != nil {
+			j.status.SetText("Cancelling: the runs under way finish first…")
+			cancel()
+		}
+	})
+	j.cancelBtn.Disable()
+	return j
+}
+
+func (j *studyJob) object(form fyne.CanvasObject) fyne.CanvasObject {
+	return container.NewVBox(form, container.NewBorder(nil, nil, container.NewHBox(j.startBtn, j.cancelBtn), nil, j.bar), j.status, j.result)
+}
+
+// running tells whether a run has started and not yet ended.
+func (j *studyJob) running() bool { return j.cancel != nil }
+
+// run starts work in a goroutine. progress may be called from any
+// goroutine with the share done, 0 to 1; show runs on the UI thread with
+// work's result, cancelled or not.
+func (j *studyJob) run(work func(ctx context.Context, progress func(float64)) func()) {
+	if j.running() {
+		return
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	j.cancel = cancel
+	j.done = make(chan struct{})
+	done := j.done
+	j.startBtn.Disable()
+	j.cancelBtn.Enable()
+	j.bar.SetValue(0)
+	j.status.SetText("Running…")
+	j.result.Objects = nil
+	j.result.Refresh()
+	go func() {
+		show := work(ctx, func(f float64) { j.do(func() { j.bar.SetValue(math.Max(0, math.Min(1, f))) }) })
+		j.do(func() {
+			cancel()
+			j.cancel = nil
+			j.startBtn.Enable()
+			j.cancelBtn.Disable()
+			if ctx.Err() == nil {
+				j.bar.SetValue(1)
+			}
+			show()
+			close(done)
+		})
+	}()
+}
+
+type studiesPanel struct {
+	w  *Window
+	do func(func()) // fyne.Do; tests run the UI thread themselves
+
+	margin                          *studyJob
+	mDirs, mLink                    *widget.Entry
+	mSettle, mTol, mMax             *numberField
+	sweep                           *studyJob
+	sAxis1, sAxis2, sShove          *widget.Entry
+	sMetric                         *widget.Select
+	sDuration                       *numberField
+	tune                            *studyJob
+	tPaths, tShove                  *widget.Entry
+	tIterations                     *numberField
+	lastMargin                      []study.MarginResult
+	lastSweep                       *study.SweepResult
+	lastTune                        *study.TuneResult
+	lastSweepMetric, lastSweepImage string
+}
+
+func newStudiesPanel(w *Window) *studiesPanel {
+	p := &studiesPanel{w: w, do: fyne.Do}
+	do := func(f func()) { p.do(f) }
+	p.margin = newStudyJob("Find margin", p.startMargin, do)
+	p.sweep = newStudyJob("Run sweep", p.startSweep, do)
+	p.tune = newStudyJob("Tune", p.startTune, do)
+	p.mDirs, p.mLink = widget.NewEntry(), widget.NewEntry()
+	p.mLink.SetPlaceHolder("(the watched link)")
+	p.mSettle = newNumberField("s", 0.1, 60, nil)
+	p.mSettle.show(3)
+	p.mTol = newNumberField("N*s", 0.001, 100, nil)
+	p.mTol.show(0.1)
+	p.mMax = newNumberField("N*s", 0.01, 1000, nil)
+	p.mMax.show(20)
+	p.sAxis1, p.sAxis2, p.sShove = widget.NewEntry(), widget.NewEntry(), widget.NewEntry()
+	p.sAxis2.SetPlaceHolder("optional second parameter, for a heat map")
+	p.sShove.SetPlaceHolder("none, or at=0.5s,impulse=2N*s,dir=left")
+	var names []string
+	for _, m := range study.Metrics() {
+		names = append(names, m.Name)
+	}
+	p.sMetric = widget.NewSelect(names, nil)
+	p.sMetric.SetSelected("peak_tilt")
+	p.sDuration = newNumberField("s", 0.01, 600, nil)
+	p.sDuration.show(4)
+	p.tPaths, p.tShove = widget.NewEntry(), widget.NewEntry()
+	p.tIterations = newNumberField("", 1, 1000, nil)
+	p.tIterations.show(10)
+	return p
+}
+
+// setRobot fills the inputs with what suits a newly opened robot.
+func (p *studiesPanel) setRobot(r *models.Robot, params []control.ParamInfo, blocks []string) {
+	p.mDirs.SetText("left, right")
+	p.mLink.SetText("")
+	axis := ""
+	if len(r.Actuators) > 0 {
+		axis = "actuators.backlash=0:2mm:5"
+	} else if len(params) > 0 {
+		axis = fmt.Sprintf("%s=%g:%g:5", params[0].Path, params[0].SliderMin, params[0].SliderMax)
+	}
+	p.sAxis1.SetText(axis)
+	p.sAxis2.SetText("")
+	p.sShove.SetText("at=0.5s,impulse=1N*s,dir=left")
+	p.tShove.SetText("at=0.5s,impulse=1N*s,dir=left")
+	// The first loop's proportional and integral gains.
+	var tune []string
+	for _, b := range blocks {
+		for _, q := range params {
+			if q.Block == b && (q.Name == "kp" || q.Name == "ki") {
+				tune = append(tune, q.Path)
+			}
+		}
+		if len(tune) > 0 {
+			break
+		}
+	}
+	p.tPaths.SetText(strings.Join(tune, ", "))
+}
+
+func (p *studiesPanel) object() fyne.CanvasObject {
+	mForm := widget.NewForm(
+		widget.NewFormItem("Directions", p.mDirs),
+		widget.NewFormItem("Link shoved", p.mLink),
+		widget.NewFormItem("Stay up for", p.mSettle.object()),
+		widget.NewFormItem("Within", p.mTol.object()),
+		widget.NewFormItem("Give up above", p.mMax.object()),
+	)
+	sForm := widget.NewForm(
+		widget.NewFormItem("Parameter", p.sAxis1),
+		widget.NewFormItem("Second parameter", p.sAxis2),
+		widget.NewFormItem("Measure", p.sMetric),
+		widget.NewFormItem("Each run", p.sDuration.object()),
+		widget.NewFormItem("Shove", p.sShove),
+	)
+	tForm := widget.NewForm(
+		widget.NewFormItem("Gains", p.tPaths),
+		widget.NewFormItem("Against the shove", p.tShove),
+		widget.NewFormItem("Iterations", p.tIterations.object()),
+	)
+	intro := widget.NewLabel("Studies run on copies of the robot and gains as they are when you start them; the live run goes on. Results are saved in " + studiesDir() + ".")
+	intro.Wrapping = fyne.TextWrapWord
+	head := func(s string) fyne.CanvasObject {
+		return widget.NewLabelWithStyle(s, fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+	}
+	note := func(s string) fyne.CanvasObject {
+		l := widget.NewLabel(s)
+		l.Wrapping = fyne.TextWrapWord
+		return l
+	}
+	return container.NewVScroll(container.NewVBox(intro,
+		widget.NewSeparator(), head("Recovery margin"),
+		note("The largest shove the robot takes and stays up, in each direction (left, right, forward, back, up, down or degrees from +x)."),
+		p.margin.object(mForm),
+		widget.NewSeparator(), head("Sweep"),
+		note("Runs a grid of values, PATH=FROM:TO:STEPS: a robot parameter such as actuators.backlash or a gain such as body_loop.kp."),
+		p.sweep.object(sForm),
+		widget.NewSeparator(), head("Tune"),
+		note("Searches for gains that keep the torso still after the shove and its mirror image (Nelder-Mead)."),
+		p.tune.object(tForm),
+	))
+}
+
+// rig is the window's robot, controller and gains as they are now.
+func (p *studiesPanel) rig() *study.Rig {
+	gs := p.w.Gains()
+	return &study.Rig{Robot: p.w.currentRobot(), Spec: p.w.spec, Gains: &gs}
+}
+
+// workers leaves a core for the window and the live run.
+func workers() int { return max(1, runtimeProcs()-1) }
+
+// read submits numberFields and returns their values, or false after
+// showing the reason beside the first bad one.
+func read(fields ...*numberField) ([]float64, bool) {
+	out := make([]float64, len(fields))
+	for i, f := range fields {
+		v, err := parseValue(f.Entry.Text, f.unit, f.lo, f.hi)
+		if err != nil {
+			f.Reason.SetText(err.Error())
+			f.Reason.Show()
+			return nil, false
+		}
+		f.Reason.Hide()
+		out[i] = v
+	}
+	return out, true
+}
+
+func splitList(text string) []string {
+	var out []string
+	for _, s := range strings.Split(text, ",") {
+		if s = strings.TrimSpace(s); s != "" {
+			out = append(out, s)
+		}
+	}
+	return out
+}
+
+func (p *studiesPanel) startMargin() {
+	vals, ok := read(p.mSettle, p.mTol, p.mMax)
+	if !ok {
+		return
+	}
+	spec := study.MarginSpec{Link: strings.TrimSpace(p.mLink.Text), Dirs: splitList(p.mDirs.Text),
+		Settle: vals[0], Tol: vals[1], Max: vals[2], Workers: workers()}
+	rig := p.rig()
+	p.margin.run(func(ctx context.Context, progress func(float64)) func() {
+		spec.Progress = func(done, total int) { progress(float64(done) / float64(max(total, 1))) }
+		res, err := rig.Margin(ctx, spec)
+		return func() { p.showMargin(res, err) }
+	})
+}
+
+func (p *studiesPanel) showMargin(res []study.MarginResult, err error) {
+	j := p.margin
+	if err != nil && !errors.Is(err, context.Canceled) {
+		j.status.SetText("The margin study failed: " + err.Error())
+		return
+	}
+	p.lastMargin = res
+	grid := container.NewGridWithColumns(4, bold("Direction"), bold("Survives"), bold("Falls at"), bold("Runs"))
+	for _, r := range res {
+		survived, fell := fmt.Sprintf("%.3g N*s", r.Survived), fmt.Sprintf("%.3g N*s", r.Fell)
+		switch {
+		case r.Unpushed:
+			survived, fell = "—", "falls unpushed"
+		case r.Capped:
+			fell = "not within the limit"
+		case math.IsNaN(r.Fell):
+			fell = "not found yet"
+		}
+		grid.Add(widget.NewLabel(r.Dir))
+		grid.Add(widget.NewLabel(survived))
+		grid.Add(widget.NewLabel(fell))
+		grid.Add(widget.NewLabel(strconv.Itoa(r.Runs)))
+	}
+	j.result.Objects = []fyne.CanvasObject{grid}
+	state := "Done"
+	if err != nil {
+		state = "Cancelled: the brackets found so far"
+	}
+	file, werr := autoSave("margin", ".csv", func(path string) error { return writeMarginCSV(path, res) })
+	j.status.SetText(state + saved(file, werr))
+	j.result.Add(widget.NewButtonWithIcon("Save table…", theme.DocumentSaveIcon(), func() {
+		p.w.saveFile("margin.csv", func(path string) error { return writeMarginCSV(path, res) })
+	}))
+	j.result.Refresh()
+}
+
+func writeMarginCSV(path string, res []study.MarginResult) error {
+	return models.WriteFileAtomic(path, func(w io.Writer) error {
+		cw := csv.NewWriter(w)
+		cw.Write([]string{"direction", "survived [N*s]", "fell [N*s]", "capped", "falls_unpushed", "runs"})
+		for _, r := range res {
+			cw.Write([]string{r.Dir, formatNum(r.Survived), formatNum(r.Fell), strconv.FormatBool(r.Capped), strconv.FormatBool(r.Unpushed), strconv.Itoa(r.Runs)})
+		}
+		cw.Flush()
+		return cw.Error()
+	})
+}
+
+func formatNum(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+func bold(s string) *widget.Label {
+	return widget.NewLabelWithStyle(s, fyne.TextAlignLeading, fyne.TextStyle{Bold: true})
+}
+
+// parseShoves reads an optional shove entry.
+func parseShoves(text string) ([]sim.Shove, error) {
+	if strings.TrimSpace(text) == "" {
+		return nil, nil
+	}
+	s, err := sim.ParseShove(text)
+	if err != nil {
+		return nil, err
+	}
+	return []sim.Shove{s}, nil
+}
+
+func (p *studiesPanel) startSweep() {
+	j := p.sweep
+	vals, ok := read(p.sDuration)
+	if !ok {
+		return
+	}
+	var axes []study.Axis
+	for _, e := range []*widget.Entry{p.sAxis1, p.sAxis2} {
+		if strings.TrimSpace(e.Text) == "" {
+			continue
+		}
+		a, err := study.ParseAxis(e.Text)
+		if err != nil {
+			j.status.SetText(err.Error())
+			return
+		}
+		axes = append(axes, a)
+	}
+	shoves, err := parseShoves(p.sShove.Text)
+	if err != nil {
+		j.status.SetText(err.Error())
+		return
+	}
+	metric := p.sMetric.Selected
+	metrics := []string{metric}
+	if metric != "fell" {
+		metrics = append(metrics, "fell")
+	}
+	spec := study.SweepSpec{Axes: axes, Metrics: metrics, Duration: vals[0], Shoves: shoves, Workers: workers()}
+	rig := p.rig()
+	j.run(func(ctx context.Context, progress func(float64)) func() {
+		spec.Progress = func(done, total int) { progress(float64(done) / float64(max(total, 1))) }
+		res, err := rig.Sweep(ctx, spec)
+		if err != nil && !errors.Is(err, context.Canceled) {
+			return func() { j.status.SetText("The sweep failed: " + err.Error()) }
+		}
+		// Save and draw off the UI thread; the plot is read back to show.
+		csvFile, csvErr := autoSave("sweep", ".csv", func(path string) error { return writeSweepCSV(path, res) })
+		var img image.Image
+		pngFile, plotErr := autoSave("sweep", ".png", func(path string) error { return study.PlotSweep(res, metric, path) })
+		if plotErr == nil {
+			img, plotErr = readPNG(pngFile)
+		}
+		return func() { p.showSweep(res, err, metric, img, plotErr, pngFile, csvFile, csvErr) }
+	})
+}
+
+func writeSweepCSV(path string, res *study.SweepResult) error {
+	return models.WriteFileAtomic(path, res.WriteCSV)
+}
+
+func readPNG(path string) (image.Image, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return png.Decode(bytes.NewReader(data))
+}
+
+func (p *studiesPanel) showSweep(res *study.SweepResult, err error, metric string, img image.Image, plotErr error, pngFile, csvFile string, csvErr error) {
+	j := p.sweep
+	p.lastSweep, p.lastSweepMetric, p.lastSweepImage = res, metric, pngFile
+	state := fmt.Sprintf("Done: %d points", len(res.Points))
+	if err != nil {
+		state = fmt.Sprintf("Cancelled: %d of %d points done, kept", len(res.Points), res.Total)
+	}
+	failed := 0
+	for _, pt := range res.Points {
+		if pt.Err != "" {
+			failed++
+		}
+	}
+	if failed > 0 {
+		state += fmt.Sprintf(", %d failed (left out of the plot)", failed)
+	}
+	j.status.SetText(state + saved(csvFile, csvErr))
+	if plotErr != nil {
+		j.result.Add(widget.NewLabel("No plot: " + plotErr.Error()))
+	} else {
+		im := canvas.NewImageFromImage(img)
+		im.FillMode = canvas.ImageFillContain
+		im.SetMinSize(fyne.NewSize(480, 360))
+		j.result.Add(im)
+	}
+	j.result.Add(container.NewHBox(
+		widget.NewButtonWithIcon("Save points…", theme.DocumentSaveIcon(), func() {
+			p.w.saveFile("sweep.csv", func(path string) error { return writeSweepCSV(path, res) })
+		}),
+		widget.NewButtonWithIcon("Save plot…", theme.DocumentSaveIcon(), func() {
+			p.w.saveFile("sweep.png", func(path string) error { return study.PlotSweep(res, metric, path) })
+		}),
+	))
+	j.result.Refresh()
+}
+
+func (p *studiesPanel) startTune() {
+	j := p.tune
+	vals, ok := read(p.tIterations)
+	if !ok {
+		return
+	}
+	shoves, err := parseShoves(p.tShove.Text)
+	if err == nil && len(shoves) == 0 {
+		err = errors.New("give a shove to tune against")
+	}
+	if err != nil {
+		j.status.SetText(err.Error())
+		return
+	}
+	spec := study.TuneSpec{Paths: splitList(p.tPaths.Text), Shoves: shoves, Iterations: int(vals[0]), Workers: workers()}
+	// Evaluations: the first simplex, then about two per iteration.
+	estimate := float64(len(spec.Paths) + 1 + 2*spec.Iterations)
+	rig := p.rig()
+	j.run(func(ctx context.Context, progress func(float64)) func() {
+		spec.Progress = func(tp study.TuneProgress) {
+			progress(math.Min(0.99, float64(tp.Evaluation)/estimate))
+		}
+		res, err := rig.Tune(ctx, spec)
+		if err != nil && (res == nil || !errors.Is(err, context.Canceled)) {
+			return func() { j.status.SetText("The tuning failed: " + err.Error()) }
+		}
+		file, werr := autoSave("tune", ".yaml", func(path string) error { return control.WriteGains(path, res.Gains) })
+		return func() { p.showTune(res, err, file, werr) }
+	})
+}
+
+func (p *studiesPanel) showTune(res *study.TuneResult, err error, file string, werr error) {
+	j := p.tune
+	p.lastTune = res
+	state := "Done (" + res.Status + ")"
+	if err != nil {
+		state = "Cancelled: the best gains so far are kept"
+	}
+	j.status.SetText(fmt.Sprintf("%s: cost %.4g from %.4g, %d evaluations of %d runs each", state, res.BestCost, res.StartCost, res.Evaluations, res.Cases) + saved(file, werr))
+	grid := container.NewGridWithColumns(3, bold("Gain"), bold("Was"), bold("Tuned"))
+	units := map[string]string{}
+	for _, q := range p.w.params {
+		units[q.Path] = q.Unit
+	}
+	for i, path := range res.Paths {
+		grid.Add(widget.NewLabel(path))
+		grid.Add(widget.NewLabel(formatValue(res.Start[i], units[path])))
+		grid.Add(widget.NewLabel(formatValue(res.Best[i], units[path])))
+	}
+	gs := res.Gains
+	apply := widget.NewButtonWithIcon("Apply to the running controller", theme.ConfirmIcon(), func() {
+		if err := p.w.ApplyGains(gs); err != nil {
+			p.w.showError("The tuned gains were not applied", err)
+			return
+		}
+		p.w.notice.SetText("Tuned gains applied (Undo takes them back)")
+	})
+	save := widget.NewButtonWithIcon("Save gain set…", theme.DocumentSaveIcon(), func() {
+		p.w.saveFile("tuned.yaml", func(path string) error { return control.WriteGains(path, gs) })
+	})
+	j.result.Objects = []fyne.CanvasObject{grid, container.NewHBox(apply, save)}
+	j.result.Refresh()
+}
+
+// studiesDir is where study results are saved without asking: beside the
+// autosave directory.
+func studiesDir() string {
+	return filepath.Join(filepath.Dir(autosaveDir()), "studies")
+}
+
+// autoSave writes a result into the studies directory under a name made
+// of the study and the time.
+func autoSave(kind, ext string, write func(path string) error) (string, error) {
+	dir := studiesDir()
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return "", err
+	}
+	path := filepath.Join(dir, kind+"-"+time.Now().Format("20060102-150405.000")+ext)
+	return path, write(path)
+}
+
+func saved(file string, err error) string {
+	if err != nil {
+		return "; not saved: " + err.Error()
+	}
+	return "; saved as " + file
+}
+
+func runtimeProcs() int { return runtime.GOMAXPROCS(0) }
