@@ -13,9 +13,10 @@ import (
 // hundreds of newtons through a screw's lever) varies with the rocking,
 // and its correction pumped a held sagittal robot into a growing 3 Hz
 // rock. Moving positions leaves the velocities, and so the kinetic
-// energy, as the solver made them (post-stabilisation by non-linear
-// Gauss-Seidel: E. Catto, "Iterative dynamics with temporal coherence",
-// GDC 2005; Cline and Pai 2003).
+// energy, as the solver made them (post-stabilisation: M. B. Cline and
+// D. K. Pai, "Post-stabilization for rigid body simulation with contact
+// and constraints", ICRA 2003), visiting the joints in turn as Gauss-Seidel
+// does.
 
 // projectionPasses is how many times the joints are visited in turn: the
 // joints and screws of a leg form loops, which one pass leaves a little
