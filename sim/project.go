@@ -106,7 +106,7 @@ func projectLine(a, b *cp.Body, anchorA, anchorB, axis cp.Vector, lo, hi float64
 // before it is moved back. A screw carries the robot's weight through a
 // short lever, so each correction does work against hundreds of newtons:
 // even moved back by positions, 10 % a step of a micrometre's solver error
-// took three quarters of the pads' damping from the sagittal robot's
+// took most of the pads' damping from the sagittal robot's
 // rocking. Left alone, the error stays within a few micrometres (the
 // solver warm-starts on the load), so only a drift beyond that is taken
 // back.
