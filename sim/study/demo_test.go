@@ -31,7 +31,7 @@ func runPlant(t *testing.T, p *sim.Plant, duration float64) {
 	}
 }
 
-func TestBuiltinRobotsStand(t *testing.T) {
+func TestDemoRobotsStand(t *testing.T) {
 	// Each built-in robot with its built-in controller stays up 20 s with
 	// its sensor noise as written. A robot that stands is what the fall
 	// limit of its file says (fall.max_tilt, models/SCHEMA.md), and the
@@ -58,7 +58,7 @@ func TestBuiltinRobotsStand(t *testing.T) {
 	}
 }
 
-func TestFrontalNoiseAndShoves(t *testing.T) {
+func TestDemoFrontalNoiseAndShoves(t *testing.T) {
 	rig := loadDemo(t, "builtin:frontal", "")
 	rig.Robot = rig.Robot.Clone()
 	if err := models.SetParam(rig.Robot, "sensors.noise", 1); err != nil {
@@ -102,7 +102,7 @@ func TestFrontalNoiseAndShoves(t *testing.T) {
 	}
 }
 
-func TestFrontalBacklashLimitCycle(t *testing.T) {
+func TestDemoFrontalBacklashLimitCycle(t *testing.T) {
 	// Slack in a position loop around a non-backdrivable screw, with
 	// integral action outside it, makes the loop hunt: a limit cycle whose
 	// size grows with the slack (describing-function analysis of backlash,
@@ -135,7 +135,7 @@ func TestFrontalBacklashLimitCycle(t *testing.T) {
 	}
 }
 
-func TestFrontalStepping(t *testing.T) {
+func TestDemoFrontalStepping(t *testing.T) {
 	rig := loadDemo(t, "builtin:frontal", "builtin:frontal_stepping")
 	p, g, err := rig.Build(sim.Options{Seed: 1})
 	if err != nil {
@@ -231,7 +231,7 @@ func TestFrontalStepping(t *testing.T) {
 	}
 }
 
-func TestSagittalBallastDampsRocking(t *testing.T) {
+func TestDemoSagittalBallastDampsRocking(t *testing.T) {
 	// A 2 N*s shove from the front; the damping ratio of the torso pitch
 	// from the logarithmic decrement (textbook vibration analysis, e.g.
 	// Thomson, Theory of Vibration, from memory) must be larger with the
