@@ -352,6 +352,8 @@ func (w *Window) ShowAndCapture(path string, after time.Duration) error {
 	go func() {
 		time.Sleep(after)
 		fyne.DoAndWait(func() {
+			// Wherever the pointer happens to rest, no readout in the picture.
+			w.traces.pointer = -1
 			w.lastVer = 0
 			w.refresh()
 		})

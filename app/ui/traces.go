@@ -220,7 +220,7 @@ func (tv *tracesView) draw(img *image.RGBA) {
 	for t := math.Ceil(t0/step) * step; t <= t1; t += step {
 		x := tx(t)
 		vline(img, int(x), h-int(axis), h-int(axis)+4, colPlotText, 0)
-		drawText(img, tv.face, fmt.Sprintf("%g s", math.Round(t*1000)/1000), math.Max(x, 14), float64(h)-3, 0.5, colPlotText)
+		drawText(img, tv.face, fmt.Sprintf("%g s", math.Round(t*1000)/1000), math.Min(math.Max(x, 14), float64(w)-18), float64(h)-3, 0.5, colPlotText)
 	}
 	if tv.pointer >= x0 && tv.pointer <= x1 {
 		vline(img, int(tv.pointer), 0, h-int(axis), colPlotText, 2)

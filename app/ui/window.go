@@ -257,13 +257,13 @@ func (w *Window) build() {
 	zoomOut := widget.NewButtonWithIcon("", theme.ZoomOutIcon(), func() { w.view.zoomBy(0.8) })
 
 	w.stepBox = container.NewHBox()
-	bar := container.NewHBox(w.runBtn, stepBtn, resetBtn, widget.NewLabel("Speed"), w.speed, w.stepBox,
+	bar := container.NewHBox(w.runBtn, stepBtn, resetBtn, widget.NewLabel("Speed"), w.speed,
 		widget.NewSeparator(), zoomIn, zoomOut, fit, widget.NewSeparator(), w.status)
 	plotBar := container.NewHBox(signals, windowSel, freeze, pin, unpin)
 	plots := container.NewBorder(plotBar, nil, nil, nil, w.traces)
 	split := container.NewVSplit(robotArea, plots)
 	split.Offset = 0.55
-	left := container.NewBorder(bar, w.notice, nil, nil, split)
+	left := container.NewBorder(bar, container.NewBorder(nil, nil, w.stepBox, nil, w.notice), nil, nil, split)
 
 	w.gainBox = container.NewVBox()
 	w.blockBox = container.NewVBox()
@@ -573,7 +573,6 @@ func (w *Window) buildStepButtons() {
 		if len(seqs) > 1 {
 			suffix = " (" + name + ")"
 		}
-		w.stepBox.Add(widget.NewSeparator())
 		w.stepBox.Add(widget.NewButton("Start stepping"+suffix, func() { w.requestEvent(name, "start") }))
 		w.stepBox.Add(widget.NewButton("Stop stepping"+suffix, func() { w.requestEvent(name, "stop") }))
 	}
