@@ -25,17 +25,13 @@ func cmdRun(args []string, stdout, stderr io.Writer) error {
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
-	duration, _, err := models.ParseQuantity(*durText, models.Duration)
-	if err != nil || duration <= 0 {
-		return usageError{fmt.Errorf("--duration %q: want a positive duration such as 10s", *durText)}
+	duration, err := parseDuration(*durText)
+	if err != nil {
+		return err
 	}
 	opt := sim.Options{Seed: *seed}
-	for _, spec := range shoves {
-		s, err := sim.ParseShove(spec)
-		if err != nil {
-			return usageError{err}
-		}
-		opt.Shoves = append(opt.Shoves, s)
+	if opt.Shoves, err = parseShoves(shoves); err != nil {
+		return err
 	}
 	rig, err := rf.load()
 	if err != nil {
