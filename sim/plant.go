@@ -1,6 +1,7 @@
 package sim
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
@@ -146,7 +147,7 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 		return nil, fmt.Errorf("sim: robot %q: %w", r.Name, err)
 	}
 	p.shoves = slices.Clone(opt.Shoves)
-	slices.SortStableFunc(p.shoves, func(a, b Shove) int { return cmpFloat(a.At, b.At) })
+	slices.SortStableFunc(p.shoves, func(a, b Shove) int { return cmp.Compare(a.At, b.At) })
 	for i := range p.shoves {
 		if err := p.checkShove(&p.shoves[i]); err != nil {
 			return nil, err
@@ -165,16 +166,6 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 	p.rec = p.newRecorder(opt.RecordCapacity)
 	p.remap()
 	return p, nil
-}
-
-func cmpFloat(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }
 
 // controllerRate reads the "rate" field of the robot's controller section.

@@ -1,6 +1,7 @@
 package study
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
@@ -330,18 +331,8 @@ func (re *realisation) modes() ([]Mode, error) {
 		}
 		out = append(out, md)
 	}
-	slices.SortFunc(out, func(a, b Mode) int { return cmpFloat(a.FrequencyHz, b.FrequencyHz) })
+	slices.SortFunc(out, func(a, b Mode) int { return cmp.Compare(a.FrequencyHz, b.FrequencyHz) })
 	return out, nil
-}
-
-func cmpFloat(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }
 
 // modeOutputs are the columns the modes are identified from: the torso
