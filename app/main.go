@@ -6,6 +6,13 @@
 //
 //	teeter run     one scenario, with a summary, CSV and JSON output
 //	teeter export  print or write a gain set as JSON, YAML or a C header
+//	teeter margin  the largest shove the robot survives, per direction
+//	teeter sweep   a parameter sweep on all cores, to CSV and a plot
+//	teeter merge   join the shards of a sweep run as a job array
+//	teeter tune    Nelder-Mead tuning over shoves, or a relay test
+//	teeter modes   closed-loop modes of the standing robot
+//	teeter wobble  the backlash limit cycle, predicted and simulated
+//	teeter bench   speed measurements
 //
 // Run "teeter help" or "teeter COMMAND -h" for the options.
 package main
