@@ -3,7 +3,6 @@ package study
 import (
 	"errors"
 	"fmt"
-	"math"
 	"strings"
 	"time"
 
@@ -131,21 +130,10 @@ func (r *Rig) Run(duration float64, opt sim.Options) (*sim.Plant, Summary, error
 	if err != nil && !errors.Is(err, sim.ErrFallen) {
 		return p, Summary{}, err
 	}
-	s := Summary{SimSeconds: p.Time(), WallSeconds: wall}
+	s := summarise(p)
+	s.WallSeconds = wall
 	if wall > 0 {
 		s.RealtimeFactor = s.SimSeconds / wall
 	}
-	if fall, fell := p.Fall(); fell {
-		s.Fell, s.FallTime, s.FallReason = true, fall.Time, fall.Reason
-	}
-	tilt := p.Recorder().Column("torso_tilt")
-	for _, t := range tilt {
-		s.PeakTilt = math.Max(s.PeakTilt, math.Abs(t))
-	}
-	if n := len(tilt); n > 0 {
-		s.FinalTilt = tilt[n-1]
-	}
-	s.PeakTilt *= 180 / math.Pi
-	s.FinalTilt *= 180 / math.Pi
 	return p, s, nil
 }
