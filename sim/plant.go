@@ -449,6 +449,9 @@ func (p *Plant) buildBallast(mb *models.Ballast) error {
 // Time is the simulated time, s.
 func (p *Plant) Time() float64 { return float64(p.step) * p.dt }
 
+// PhysicsRate is the physics step rate, Hz.
+func (p *Plant) PhysicsRate() float64 { return p.physRate }
+
 // Robot is the model the plant was built from.
 func (p *Plant) Robot() *models.Robot { return p.robot }
 

@@ -45,10 +45,7 @@ func (r *Rig) Execute(duration float64, opt sim.Options) (*Outcome, error) {
 	for _, s := range opt.Shoves {
 		o.DisturbAt = math.Max(o.DisturbAt, s.At)
 	}
-	n := int(math.Round(duration * 1000))
-	if opt.PhysicsRate > 0 {
-		n = int(math.Round(duration * opt.PhysicsRate))
-	}
+	n := int(math.Round(duration * p.PhysicsRate()))
 	var snap sim.Snapshot
 	var lastX []float64
 	for i := 0; i < n; i++ {
