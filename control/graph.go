@@ -2,6 +2,7 @@ package control
 
 import (
 	"fmt"
+	"slices"
 	"sort"
 	"strings"
 	"sync"
@@ -83,7 +84,7 @@ func resolveSource(spec *Spec, byName map[string]int, text string) (source, stri
 	b := spec.Blocks[i]
 	if !dotted {
 		switch {
-		case b.hasOutput("out"):
+		case slices.Contains(b.Outputs, "out"):
 			output = "out"
 		case len(b.Outputs) == 1:
 			output = b.Outputs[0]
@@ -108,7 +109,7 @@ func feeds(spec *Spec, w *wiring) [][]int {
 	out := make([][]int, len(spec.Blocks))
 	for i := range spec.Blocks {
 		for _, s := range w.sources[i] {
-			if s.wired && !s.isLiteral && spec.Blocks[s.block].Kind != "delay" && !contains1(out[s.block], i) {
+			if s.wired && !s.isLiteral && spec.Blocks[s.block].Kind != "delay" && !slices.Contains(out[s.block], i) {
 				out[s.block] = append(out[s.block], i)
 			}
 		}
@@ -117,15 +118,6 @@ func feeds(spec *Spec, w *wiring) [][]int {
 		sort.Ints(out[i])
 	}
 	return out
-}
-
-func contains1(list []int, x int) bool {
-	for _, y := range list {
-		if y == x {
-			return true
-		}
-	}
-	return false
 }
 
 // findLoops reports each strongly connected group of blocks that has no
@@ -177,7 +169,7 @@ func findLoops(spec *Spec, w *wiring, ps *models.Problems) bool {
 	}
 	ok := true
 	for _, comp := range comps {
-		if len(comp) == 1 && !contains1(next[comp[0]], comp[0]) {
+		if len(comp) == 1 && !slices.Contains(next[comp[0]], comp[0]) {
 			continue
 		}
 		ok = false
@@ -207,7 +199,7 @@ func cycleThrough(start int, comp []int, next [][]int) []int {
 				path = append(path, u)
 				return true
 			}
-			if contains1(comp, u) && !seen[u] {
+			if slices.Contains(comp, u) && !seen[u] {
 				seen[u] = true
 				if walk(u) {
 					return true
@@ -342,21 +334,11 @@ func (c *buildContext) bind(b *BlockSpec, name string, field *float64) {
 }
 
 func (c *buildContext) channel(b *BlockSpec) int {
-	for i, ch := range c.channels {
-		if ch == b.Options["channel"] {
-			return i
-		}
-	}
-	return -1
+	return slices.Index(c.channels, b.Options["channel"])
 }
 
 func (c *buildContext) actuator(b *BlockSpec) int {
-	for i, a := range c.actuators {
-		if a == b.Options["actuator"] {
-			return i
-		}
-	}
-	return -1
+	return slices.Index(c.actuators, b.Options["actuator"])
 }
 
 // Build makes a graph for a robot whose sensor channels and actuators are
@@ -424,7 +406,7 @@ func checkRobot(spec *Spec, channels, actuators []string, ps *models.Problems) {
 		switch b.Kind {
 		case "sensor":
 			ch := b.Options["channel"]
-			if ch == "" || contains(channels, ch) {
+			if ch == "" || slices.Contains(channels, ch) {
 				continue
 			}
 			sensor, _, _ := strings.Cut(ch, ".")
@@ -444,7 +426,7 @@ func checkRobot(spec *Spec, channels, actuators []string, ps *models.Problems) {
 			if a == "" {
 				continue
 			}
-			if !contains(actuators, a) {
+			if !slices.Contains(actuators, a) {
 				ps.Add(b.where("actuator"), blockPath(b.Name)+".actuator", "the robot has no actuator %q (it has %s)", a, strings.Join(actuators, ", "))
 				continue
 			}
@@ -534,7 +516,7 @@ func (g *Graph) Request(block, event string) error {
 	if !ok {
 		return fmt.Errorf("no sequencer block named %q", block)
 	}
-	if !contains(s.events, event) {
+	if !slices.Contains(s.events, event) {
 		return fmt.Errorf("sequencer %s has no event %q (events: %s)", block, event, strings.Join(s.events, ", "))
 	}
 	g.mu.Lock()

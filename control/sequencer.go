@@ -2,6 +2,7 @@ package control
 
 import (
 	"fmt"
+	"slices"
 	"strings"
 
 	"teeter/models"
@@ -54,10 +55,8 @@ func parseSequencer(r *reader) {
 	seq.Signals, _ = r.nameList("signals", false)
 	seq.Events, _ = r.nameList("events", false)
 	for _, e := range seq.Events {
-		for _, s := range seq.Signals {
-			if e == s {
-				r.add(r.pos, "events", "%q is both a signal and an event", e)
-			}
+		if slices.Contains(seq.Signals, e) {
+			r.add(r.pos, "events", "%q is both a signal and an event", e)
 		}
 	}
 	r.inputs(seq.Signals...)
@@ -93,15 +92,6 @@ func parseSequencer(r *reader) {
 	}
 }
 
-func contains(list []string, s string) bool {
-	for _, x := range list {
-		if x == s {
-			return true
-		}
-	}
-	return false
-}
-
 func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bool) {
 	st := State{Pos: mapPos(v)}
 	where := fmt.Sprintf("states[%d]", index)
@@ -128,7 +118,7 @@ func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bo
 			}
 			for j := range f.Value.Fields {
 				of := &f.Value.Fields[j]
-				if !contains(r.b.Outputs[:len(r.b.Outputs)-1], of.Key) {
+				if !slices.Contains(r.b.Outputs[:len(r.b.Outputs)-1], of.Key) {
 					r.add(of.KeyPos, where+".set."+of.Key, "%q is not an output of this sequencer (outputs: %s)", of.Key, strings.Join(r.b.Outputs[:len(r.b.Outputs)-1], ", "))
 					continue
 				}
@@ -183,7 +173,7 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 			t.To = text
 		case "on":
 			conditions++
-			if !contains(seq.Events, text) {
+			if !slices.Contains(seq.Events, text) {
 				r.add(f.Value.Pos, where+".on", "%q is not an event of this sequencer (events: %s)", text, strings.Join(seq.Events, ", "))
 				return t, false
 			}
@@ -199,7 +189,7 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 			r.b.Params = append(r.b.Params, Param{Name: prefix + "after", Value: x, Unit: "s", Tunable: true, Max: inf, Pos: f.Value.Pos})
 		case "when":
 			conditions++
-			if !contains(seq.Signals, text) {
+			if !slices.Contains(seq.Signals, text) {
 				r.add(f.Value.Pos, where+".when", "%q is not a signal of this sequencer (signals: %s)", text, strings.Join(seq.Signals, ", "))
 				return t, false
 			}
@@ -281,14 +271,6 @@ func buildSequencer(b *BlockSpec, c *buildContext) block {
 	s := &sequencerBlock{io: c.io(b), name: b.Name, nOut: len(b.Outputs) - 1, nSignal: len(seq.Signals), events: seq.Events}
 	s.from = make([]float64, s.nOut)
 	s.latched = make([]bool, len(seq.Events))
-	index := func(list []string, x string) int {
-		for i, y := range list {
-			if y == x {
-				return i
-			}
-		}
-		return -1
-	}
 	stateIndex := func(name string) int {
 		for i, st := range seq.States {
 			if st.Name == name {
@@ -302,14 +284,14 @@ func buildSequencer(b *BlockSpec, c *buildContext) block {
 		ss := &s.states[i]
 		ss.values = make([]float64, len(st.Set))
 		for j, o := range st.Set {
-			ss.outputs = append(ss.outputs, index(b.Outputs, o))
+			ss.outputs = append(ss.outputs, slices.Index(b.Outputs, o))
 			c.bind(b, st.Name+"."+o, &ss.values[j])
 		}
 		c.bind(b, st.Name+".ramp", &ss.ramp)
 		ss.next = make([]seqTransition, len(st.Next))
 		for k, t := range st.Next {
 			tr := &ss.next[k]
-			tr.to, tr.event, tr.signal, tr.above, tr.after = stateIndex(t.To), index(seq.Events, t.On), index(seq.Signals, t.When), t.Above, t.After
+			tr.to, tr.event, tr.signal, tr.above, tr.after = stateIndex(t.To), slices.Index(seq.Events, t.On), slices.Index(seq.Signals, t.When), t.Above, t.After
 			prefix := fmt.Sprintf("%s.next%d.", st.Name, k+1)
 			switch {
 			case t.After:
@@ -391,13 +373,9 @@ func (s *sequencerBlock) drive(g *Graph) {
 	}
 }
 
-// request latches an event; it reports false for an unknown event.
-func (s *sequencerBlock) request(event string) bool {
-	for i, e := range s.events {
-		if e == event {
-			s.latched[i] = true
-			return true
-		}
+// request latches an event. Graph.Request has already refused unknown ones.
+func (s *sequencerBlock) request(event string) {
+	if i := slices.Index(s.events, event); i >= 0 {
+		s.latched[i] = true
 	}
-	return false
 }

@@ -84,15 +84,6 @@ func (b *BlockSpec) where(option string) models.Pos {
 	return b.Pos
 }
 
-func (b *BlockSpec) hasOutput(name string) bool {
-	for _, o := range b.Outputs {
-		if o == name {
-			return true
-		}
-	}
-	return false
-}
-
 // Parse reads a controller: the robot file's controller section, or a
 // controller file's top level (which may itself hold a single controller
 // key). It checks everything that does not depend on the robot, block by
