@@ -59,10 +59,11 @@ func resolve(spec *Spec, ps *models.Problems) *wiring {
 	if !ok {
 		return nil
 	}
-	if !findLoops(spec, w, ps) {
+	next := feeds(spec, w)
+	if !findLoops(spec, next, ps) {
 		return nil
 	}
-	w.order = evaluationOrder(spec, w)
+	w.order = evaluationOrder(next)
 	return w
 }
 
@@ -123,9 +124,8 @@ func feeds(spec *Spec, w *wiring) [][]int {
 // findLoops reports each strongly connected group of blocks that has no
 // delay in it, naming one loop through it, and reports whether there were
 // none. The groups are Tarjan's strongly connected components.
-func findLoops(spec *Spec, w *wiring, ps *models.Problems) bool {
-	next := feeds(spec, w)
-	n := len(spec.Blocks)
+func findLoops(spec *Spec, next [][]int, ps *models.Problems) bool {
+	n := len(next)
 	index, low := make([]int, n), make([]int, n)
 	onStack := make([]bool, n)
 	for i := range index {
@@ -214,10 +214,10 @@ func cycleThrough(start int, comp []int, next [][]int) []int {
 }
 
 // evaluationOrder sorts the blocks so that each comes after the blocks that
-// feed it within a tick, keeping file order where there is a choice.
-func evaluationOrder(spec *Spec, w *wiring) []int {
-	next := feeds(spec, w)
-	n := len(spec.Blocks)
+// feed it within a tick (next, from feeds), keeping file order where there
+// is a choice.
+func evaluationOrder(next [][]int) []int {
+	n := len(next)
 	indegree := make([]int, n)
 	for _, list := range next {
 		for _, u := range list {
@@ -371,11 +371,10 @@ func Build(spec *Spec, channels, actuators []string) (*Graph, error) {
 	built := make([]block, len(spec.Blocks))
 	for i, b := range spec.Blocks {
 		c.index = i
+		first := len(g.params)
 		built[i] = kinds[b.Kind].build(b, c)
-		for k := range g.params {
-			if g.params[k].owner == nil {
-				g.params[k].owner = built[i]
-			}
+		for k := first; k < len(g.params); k++ {
+			g.params[k].owner = built[i]
 		}
 		if d, ok := built[i].(*delayBlock); ok {
 			g.delays = append(g.delays, d)
