@@ -40,9 +40,7 @@ func sliderRange(p *Param) (float64, float64) {
 	}
 	span = math.Max(span, 4*math.Abs(p.Value))
 	lo, hi := -span, span
-	if p.Min >= 0 {
-		lo = p.Min
-	} else if !math.IsInf(p.Min, -1) {
+	if !math.IsInf(p.Min, -1) {
 		lo = p.Min
 	}
 	if !math.IsInf(p.Max, 1) {
