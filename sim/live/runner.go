@@ -153,7 +153,6 @@ func New[S any](cfg Config[S]) (*Runner[S], error) {
 	if err := r.rebuild(); err != nil {
 		return nil, err
 	}
-	r.status.Speed = 1
 	go r.loop()
 	return r, nil
 }
@@ -194,9 +193,9 @@ func (r *Runner[S]) rebuild() error {
 	r.lastRec = math.Inf(-1)
 	capacity := int(r.cfg.TraceSeconds*r.cfg.TraceRate) + 1
 	r.mu.Lock()
-	if r.trace == nil || !sameNames(r.names, names) {
+	if r.trace == nil || !slices.Equal(r.names, names) {
 		r.trace = newRolling(names, capacity)
-		if r.ref != nil && !sameNames(r.ref.names, names) {
+		if r.ref != nil && !slices.Equal(r.ref.names, names) {
 			r.ref = nil
 			r.status.ReferencePinned = false
 		}
@@ -211,18 +210,6 @@ func (r *Runner[S]) rebuild() error {
 	r.record(true)
 	r.publish()
 	return nil
-}
-
-func sameNames(a, b []string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 // record adds one trace sample when one is due.
@@ -334,7 +321,7 @@ func (r *Runner[S]) loop() {
 		deadline := begin.Add(frame)
 		target := math.Inf(1)
 		if r.speed > 0 {
-			target = simStart + begin.Add(frame).Sub(wallStart).Seconds()*r.speed
+			target = simStart + deadline.Sub(wallStart).Seconds()*r.speed
 		}
 		steps := 0
 		for r.plant.Time() < target {
