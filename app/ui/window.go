@@ -470,14 +470,14 @@ func (w *Window) refresh() {
 		w.traces.raster.Refresh()
 	}
 
-	state := "paused"
+	state, label, icon := "paused", "Run", theme.MediaPlayIcon()
 	if st.Running {
-		state = "running"
-		w.runBtn.SetText("Pause")
-		w.runBtn.SetIcon(theme.MediaPauseIcon())
-	} else {
-		w.runBtn.SetText("Run")
-		w.runBtn.SetIcon(theme.MediaPlayIcon())
+		state, label, icon = "running", "Pause", theme.MediaPauseIcon()
+	}
+	// Each Set refreshes the button; most frames the state is unchanged.
+	if w.runBtn.Text != label {
+		w.runBtn.Text, w.runBtn.Icon = label, icon
+		w.runBtn.Refresh()
 	}
 	speed := ""
 	if st.Running && st.Achieved > 0 {
@@ -486,18 +486,24 @@ func (w *Window) refresh() {
 	w.status.SetText(fmt.Sprintf("t = %.2f s, %s%s", st.Time, state, speed))
 	switch {
 	case st.Err != nil:
-		w.bannerT.Text = "Simulation stopped: " + st.Err.Error() + " — Reset (R) to start again"
-		w.banner.Show()
+		w.showBanner("Simulation stopped: " + st.Err.Error() + " — Reset (R) to start again")
 	case st.Fallen:
-		w.bannerT.Text = fmt.Sprintf("Fallen at %.2f s: %s — Reset (R) puts it back", st.FallTime, st.FallReason)
-		w.banner.Show()
+		w.showBanner(fmt.Sprintf("Fallen at %.2f s: %s — Reset (R) puts it back", st.FallTime, st.FallReason))
 	default:
 		w.banner.Hide()
 	}
-	w.bannerT.Refresh()
 	if st.Notice != "" && st.Restarts > 0 {
 		w.notice.SetText(st.Notice)
 	}
+}
+
+// showBanner shows text over the robot, redrawing it only when it changed.
+func (w *Window) showBanner(text string) {
+	if w.bannerT.Text != text {
+		w.bannerT.Text = text
+		w.bannerT.Refresh()
+	}
+	w.banner.Show()
 }
 
 // defaultSignals picks up to six signals to plot at the start: the IMU
