@@ -3,25 +3,16 @@ package control
 import (
 	"embed"
 	"fmt"
-	"sort"
 	"strings"
+
+	"teeter/models"
 )
 
 //go:embed builtin/*.yaml
 var builtinFS embed.FS
 
 // BuiltinNames lists the built-in controllers, one per built-in robot.
-func BuiltinNames() []string {
-	entries, _ := builtinFS.ReadDir("builtin")
-	var names []string
-	for _, e := range entries {
-		if n, ok := strings.CutSuffix(e.Name(), ".yaml"); ok {
-			names = append(names, n)
-		}
-	}
-	sort.Strings(names)
-	return names
-}
+func BuiltinNames() []string { return models.EmbeddedNames(builtinFS, "builtin") }
 
 // BuiltinSource returns the file text of a built-in controller.
 func BuiltinSource(name string) ([]byte, error) {

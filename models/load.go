@@ -3,6 +3,7 @@ package models
 import (
 	"embed"
 	"fmt"
+	"io/fs"
 	"math"
 	"os"
 	"sort"
@@ -15,8 +16,12 @@ var builtinFS embed.FS
 const builtinPrefix = "builtin:"
 
 // BuiltinNames lists the robots embedded in the program, sorted.
-func BuiltinNames() []string {
-	entries, err := builtinFS.ReadDir("builtin")
+func BuiltinNames() []string { return EmbeddedNames(builtinFS, "builtin") }
+
+// EmbeddedNames lists, sorted, the NAME of each dir/NAME.yaml in fsys: the
+// built-in robots here and the built-in controllers of package control.
+func EmbeddedNames(fsys fs.FS, dir string) []string {
+	entries, err := fs.ReadDir(fsys, dir)
 	if err != nil {
 		return nil
 	}
