@@ -56,6 +56,7 @@ func buildPlant(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
 	}
 	sp := &simPlant{p: p, perTick: max(1, int(math.Round(physicsRate/rate))), rec: p.Recorder()}
 	if graph == nil {
+		// Not graph itself: a nil *control.Graph is a non-nil Tuner.
 		return sp, nil, nil
 	}
 	return sp, graph, nil

@@ -102,7 +102,7 @@ var (
 	colShove      = color.RGBA{0xc0, 0x39, 0x2b, 0xff}
 )
 
-// drawScene paints the scene into img (which must be w x h of v).
+// drawScene paints the scene with dc, whose image is v.W x v.H pixels.
 func drawScene(dc *gg.Context, sc *scene, v view) {
 	dc.SetColor(colBackground)
 	dc.Clear()
@@ -198,7 +198,7 @@ func drawGround(dc *gg.Context, sc *scene, v view) {
 	for i, x := range xs {
 		y := groundY(sc, x)
 		if i == 1 && len(xs) == 4 {
-			y = groundY(sc, x) - sc.StepHeight // foot of the riser
+			y -= sc.StepHeight // foot of the riser
 		}
 		px, py := v.toPixel(models.Vec2{X: x, Y: y})
 		if i == 0 {

@@ -5,6 +5,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"slices"
 	"strings"
 
 	"fyne.io/fyne/v2"
@@ -16,7 +17,7 @@ import (
 	"teeter/sim/live"
 )
 
-// signalMeaning says what a recorded signal is and its unit, from the end of
+// signalMeanings say what a recorded signal is and its unit, from the end of
 // its name, for the legend and the help page.
 var signalMeanings = []struct{ Suffix, Unit, Meaning string }{
 	{".tilt", "rad", "IMU: its link's angle from upright, counter-clockwise positive"},
@@ -48,7 +49,7 @@ func unitOf(names, units []string, i int) string {
 
 func signalUnit(name string) string {
 	for _, m := range signalMeanings {
-		if strings.HasSuffix(name, m.Suffix) || name == m.Suffix {
+		if strings.HasSuffix(name, m.Suffix) {
 			return m.Unit
 		}
 	}
@@ -293,16 +294,8 @@ func valueAt(tr *live.Trace, k int, t float64) (float64, bool) {
 	if k >= len(tr.Values) || len(tr.Time) == 0 || t < tr.Time[0] || t > tr.Time[len(tr.Time)-1] {
 		return 0, false
 	}
-	lo, hi := 0, len(tr.Time)-1
-	for lo < hi {
-		mid := (lo + hi) / 2
-		if tr.Time[mid] < t {
-			lo = mid + 1
-		} else {
-			hi = mid
-		}
-	}
-	return tr.Values[k][lo], true
+	i, _ := slices.BinarySearch(tr.Time, t)
+	return tr.Values[k][i], true
 }
 
 // niceStep rounds a step up to 1, 2 or 5 times a power of ten.
