@@ -93,6 +93,14 @@ func (o *object) need(key string) *Value {
 	return v
 }
 
+// field is need(key) for a required field and get(key) for an optional one.
+func (o *object) field(key string, required bool) *Value {
+	if required {
+		return o.need(key)
+	}
+	return o.get(key)
+}
+
 // forbid reports a field that makes no sense in this context.
 func (o *object) forbid(key, why string) {
 	o.known = append(o.known, key)
@@ -138,12 +146,7 @@ func (w *walker) scalar(v *Value, path string) (string, bool) {
 }
 
 func (o *object) text(key string, required bool) (string, *Value) {
-	var v *Value
-	if required {
-		v = o.need(key)
-	} else {
-		v = o.get(key)
-	}
+	v := o.field(key, required)
 	if v == nil {
 		return "", nil
 	}
@@ -207,12 +210,7 @@ func (w *walker) quantityOf(v *Value, path string, kinds ...Kind) quantity {
 // num reads a quantity field into dst. dst keeps its value (the default)
 // when the field is absent or wrong.
 func (o *object) num(key string, required bool, dst *float64, kinds ...Kind) quantity {
-	var v *Value
-	if required {
-		v = o.need(key)
-	} else {
-		v = o.get(key)
-	}
+	v := o.field(key, required)
 	if v == nil {
 		return quantity{pos: o.pos, path: join(o.path, key)}
 	}
@@ -225,12 +223,7 @@ func (o *object) num(key string, required bool, dst *float64, kinds ...Kind) qua
 
 // pair reads a two-element list such as a point [x, y] or a range [lo, hi].
 func (o *object) pair(key string, required bool, kinds ...Kind) (a, b quantity, present bool) {
-	var v *Value
-	if required {
-		v = o.need(key)
-	} else {
-		v = o.get(key)
-	}
+	v := o.field(key, required)
 	if v == nil {
 		return quantity{}, quantity{}, false
 	}
@@ -267,12 +260,7 @@ func describe(v *Value) string {
 
 // list reads a field holding a list.
 func (o *object) list(key string, required bool) []Value {
-	var v *Value
-	if required {
-		v = o.need(key)
-	} else {
-		v = o.get(key)
-	}
+	v := o.field(key, required)
 	if v == nil {
 		return nil
 	}
