@@ -164,7 +164,7 @@ func readRobot(w *walker, top *object, r *Robot) {
 		readFall(w, v, &r.Fall, s.links)
 	}
 	if v := top.get("controller"); v != nil {
-		c := v.clone()
+		c := v.Clone()
 		r.Controller = &c
 	}
 }

@@ -314,7 +314,7 @@ func (r *Robot) Clone() *Robot {
 		c.Battery = &v
 	}
 	if r.Controller != nil {
-		v := r.Controller.clone()
+		v := r.Controller.Clone()
 		c.Controller = &v
 	}
 	if r.Pos != nil {

@@ -186,19 +186,19 @@ func convertField(file string, mv *ast.MappingValueNode, depth int, ps *Problems
 	return Field{Key: key, KeyPos: nodePos(file, mv.Key), Value: convert(file, mv.Value, depth+1, ps)}
 }
 
-// clone returns a deep copy of v.
-func (v Value) clone() Value {
+// Clone returns a deep copy of v, sharing no lists with it.
+func (v Value) Clone() Value {
 	c := v
 	if v.Items != nil {
 		c.Items = make([]Value, len(v.Items))
 		for i := range v.Items {
-			c.Items[i] = v.Items[i].clone()
+			c.Items[i] = v.Items[i].Clone()
 		}
 	}
 	if v.Fields != nil {
 		c.Fields = make([]Field, len(v.Fields))
 		for i, f := range v.Fields {
-			c.Fields[i] = Field{Key: f.Key, KeyPos: f.KeyPos, Value: f.Value.clone()}
+			c.Fields[i] = Field{Key: f.Key, KeyPos: f.KeyPos, Value: f.Value.Clone()}
 		}
 	}
 	return c

@@ -23,7 +23,7 @@ import (
 // built-in controller when it has none), as a value tree to edit.
 func controllerValue(r *models.Robot) (*models.Value, error) {
 	if r.Controller != nil {
-		v := copyValue(*r.Controller)
+		v := r.Controller.Clone()
 		return &v, nil
 	}
 	name, ok := strings.CutPrefix(r.Source, "builtin:")
@@ -43,23 +43,6 @@ func controllerValue(r *models.Robot) (*models.Value, error) {
 		return &v, nil
 	}
 	return &root, nil
-}
-
-func copyValue(v models.Value) models.Value {
-	c := v
-	if v.Items != nil {
-		c.Items = make([]models.Value, len(v.Items))
-		for i := range v.Items {
-			c.Items[i] = copyValue(v.Items[i])
-		}
-	}
-	if v.Fields != nil {
-		c.Fields = make([]models.Field, len(v.Fields))
-		for i, f := range v.Fields {
-			c.Fields[i] = models.Field{Key: f.Key, KeyPos: f.KeyPos, Value: copyValue(f.Value)}
-		}
-	}
-	return c
 }
 
 func scalar(text string) models.Value { return models.Value{Kind: models.Scalar, Text: text} }

@@ -170,7 +170,7 @@ func (w *Window) robotToSave() *models.Robot {
 			w.ctrl, _ = controllerValue(w.robot)
 		}
 		if w.ctrl != nil {
-			c := copyValue(*w.ctrl)
+			c := w.ctrl.Clone()
 			r.Controller = &c
 		}
 	}
