@@ -3,8 +3,6 @@ package control
 import (
 	"strings"
 	"testing"
-
-	"teeter/models"
 )
 
 // build parses and builds a controller from YAML text for a robot with the
@@ -49,5 +47,4 @@ blocks:
 	if cmd[0] != -0.2 {
 		t.Fatalf("command %v, want -0.2", cmd[0])
 	}
-	_ = models.Pos{}
 }
