@@ -421,8 +421,9 @@ func parseLowpass(r *reader) {
 
 // lowpassBlock is a first-order lag, discretised exactly for an input held
 // over a tick and applied at once: y[k] = a*y[k-1] + (1-a)*u[k] with
-// a = exp(-h/tau), so it adds no tick of delay. It starts at its first input so that a signal that does
-// not start at zero does not show a start-up transient.
+// a = exp(-h/tau), so it adds no tick of delay. It starts at its first
+// input so that a signal that does not start at zero does not show a
+// start-up transient.
 type lowpassBlock struct {
 	io
 	tau     float64
