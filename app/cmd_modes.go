@@ -14,9 +14,7 @@ func init() {
 
 func cmdModes(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("modes", stderr)
-	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
-	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
-	gains := fs.String("gains", "", "gain set file applied on top of the controller")
+	rf := addRigFlags(fs, true)
 	spanText := fs.String("span", "4s", "response time used for the fit")
 	order := fs.Int("order", 0, "model order (default: from the singular values)")
 	minWeight := fs.Float64("min-weight", 0.01, "leave out modes carrying less than this share of the response")
@@ -29,7 +27,7 @@ func cmdModes(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	rig, err := rf.load()
 	if err != nil {
 		return err
 	}

@@ -16,9 +16,7 @@ func init() {
 
 func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("wobble", stderr)
-	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
-	ctrl := fs.String("controller", "", "controller file (default: the robot's own or built-in controller)")
-	gains := fs.String("gains", "", "gain set file applied on top of the controller")
+	rf := addRigFlags(fs, true)
 	backlashText := fs.String("backlash", "0.4mm", "total play given to each listed screw (a length, or an angle for rotary screws)")
 	acts := fs.String("actuators", "hip_left,hip_right,ankle_left,ankle_right", "lead screws given the backlash, comma separated")
 	durText := fs.String("duration", "40s", "simulated time")
@@ -37,7 +35,7 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 			return usageError{fmt.Errorf("--backlash %q: want a length such as 0.4mm or an angle such as 1deg", *backlashText)}
 		}
 	}
-	rig, err := study.LoadRig(*model, *ctrl, *gains)
+	rig, err := rf.load()
 	if err != nil {
 		return err
 	}
