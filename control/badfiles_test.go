@@ -24,7 +24,7 @@ func TestBadFiles(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	channels, actuators := channelsOf(robot), actuatorsOf(robot)
+	channels, actuators := models.Channels(robot), models.ActuatorNames(robot)
 	good, err := ParseFile("../testdata/good_controller.yaml")
 	if err != nil {
 		t.Fatalf("the base of the bad files must read:\n%v", err)

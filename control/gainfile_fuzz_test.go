@@ -31,8 +31,8 @@ func FuzzParseGains(f *testing.F) {
 				continue
 			}
 		}
-		robots[name] = [2][]string{channelsOf(robot), actuatorsOf(robot)}
-		g, err := Build(spec, channelsOf(robot), actuatorsOf(robot))
+		robots[name] = [2][]string{models.Channels(robot), models.ActuatorNames(robot)}
+		g, err := Build(spec, models.Channels(robot), models.ActuatorNames(robot))
 		if err != nil {
 			continue
 		}

@@ -158,7 +158,7 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 	if err := p.buildSensors(opt.Seed); err != nil {
 		return nil, fmt.Errorf("sim: robot %q: %w", r.Name, err)
 	}
-	p.readings = make([]float64, len(Channels(r)))
+	p.readings = make([]float64, len(models.Channels(r)))
 	p.commands = make([]float64, len(p.acts))
 	p.good = make([]bodyState, len(p.bodies))
 	p.saveGood()
@@ -684,31 +684,3 @@ func (p *Plant) centreOfPressure() (float64, bool) {
 	return x / j, true
 }
 
-// Channels lists the sensor channel names of a robot, in the order of the
-// readings the controller gets: for each sensor in file order, its
-// channels (imu: NAME.tilt, NAME.rate, NAME.accel_tilt; joint_position:
-// NAME.position; foot_load: NAME.force).
-func Channels(r *models.Robot) []string {
-	var out []string
-	for _, s := range r.Sensors {
-		switch s.Kind {
-		case models.IMU:
-			out = append(out, s.Name+".tilt", s.Name+".rate", s.Name+".accel_tilt")
-		case models.JointPosition:
-			out = append(out, s.Name+".position")
-		case models.FootLoad:
-			out = append(out, s.Name+".force")
-		}
-	}
-	return out
-}
-
-// ActuatorNames lists the actuators of a robot in the order of the commands
-// the controller writes.
-func ActuatorNames(r *models.Robot) []string {
-	out := make([]string, len(r.Actuators))
-	for i, a := range r.Actuators {
-		out[i] = a.Name
-	}
-	return out
-}

@@ -208,7 +208,7 @@ func TestRecorder(t *testing.T) {
 	if math.Abs(times[0]-0.5) > 1e-9 || math.Abs(times[49]-0.99) > 1e-9 {
 		t.Errorf("ring holds %g..%g s, want 0.5..0.99 s", times[0], times[49])
 	}
-	for _, name := range append(Channels(r), "hip_left.gap", "left_inner.force", "com.x", "cop.x", "torso_tilt", "battery.voltage") {
+	for _, name := range append(models.Channels(r), "hip_left.gap", "left_inner.force", "com.x", "cop.x", "torso_tilt", "battery.voltage") {
 		if rec.Index(name) < 0 {
 			t.Errorf("no column %q", name)
 		}
@@ -231,7 +231,7 @@ func TestRecorder(t *testing.T) {
 func TestChannels(t *testing.T) {
 	r := &models.Robot{Sensors: []models.Sensor{
 		{Name: "a", Kind: models.IMU}, {Name: "b", Kind: models.JointPosition}, {Name: "c", Kind: models.FootLoad}}}
-	got := strings.Join(Channels(r), " ")
+	got := strings.Join(models.Channels(r), " ")
 	if want := "a.tilt a.rate a.accel_tilt b.position c.force"; got != want {
 		t.Errorf("Channels = %q, want %q (the contract in DEVELOPERS.md)", got, want)
 	}

@@ -163,7 +163,7 @@ func (p *Plant) newRecorder(capacity int) *Recorder {
 		add(a.name+".force", force)
 		add(a.name+".current", "A")
 	}
-	ch := Channels(p.robot)
+	ch := models.Channels(p.robot)
 	k := 0
 	for i := range p.sensors {
 		s := &p.sensors[i]

@@ -12,7 +12,6 @@ import (
 
 	"teeter/control"
 	"teeter/models"
-	"teeter/sim"
 )
 
 // Editing the controller graph works on the controller section as a value
@@ -137,7 +136,7 @@ func checkController(r *models.Robot, ctrl *models.Value) (*control.Spec, error)
 	if err != nil {
 		return nil, err
 	}
-	if _, err := control.Build(spec, sim.Channels(r), sim.ActuatorNames(r)); err != nil {
+	if _, err := control.Build(spec, models.Channels(r), models.ActuatorNames(r)); err != nil {
 		return nil, err
 	}
 	return spec, nil
@@ -172,7 +171,7 @@ func (w *Window) editController(edit func(ctrl *models.Value) error) error {
 	w.robot, w.spec = next, spec
 	w.live = w.currentRobot()
 	w.params = nil
-	if g, err := control.Build(spec, sim.Channels(next), sim.ActuatorNames(next)); err == nil {
+	if g, err := control.Build(spec, models.Channels(next), models.ActuatorNames(next)); err == nil {
 		w.params = g.Params()
 	}
 	w.gains = map[string]float64{}

@@ -16,7 +16,6 @@ import (
 
 	"teeter/control"
 	"teeter/models"
-	"teeter/sim"
 	"teeter/sim/live"
 )
 
@@ -135,7 +134,7 @@ func (w *Window) OpenRobot(path string) error {
 func (w *Window) installRobot(r *models.Robot, path string) error {
 	spec, err := loadSpec(r)
 	if err == nil && spec != nil {
-		_, err = control.Build(spec, sim.Channels(r), sim.ActuatorNames(r))
+		_, err = control.Build(spec, models.Channels(r), models.ActuatorNames(r))
 	}
 	if err == nil {
 		err = <-w.run.SetRobot(r.Clone())

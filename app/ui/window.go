@@ -409,7 +409,7 @@ func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
 	w.hist = history{}
 	w.params = nil
 	if spec != nil {
-		if g, err := control.Build(spec, sim.Channels(r), sim.ActuatorNames(r)); err == nil {
+		if g, err := control.Build(spec, models.Channels(r), models.ActuatorNames(r)); err == nil {
 			w.params = g.Params()
 		}
 	}

@@ -48,7 +48,7 @@ func TestDemoRobotsStand(t *testing.T) {
 			t.Errorf("%s fell at %.2f s: %s", name, s.FallTime, s.FallReason)
 			continue
 		}
-		for _, a := range sim.ActuatorNames(rig.Robot) {
+		for _, a := range models.ActuatorNames(rig.Robot) {
 			c := Window(p.Recorder(), a+".command", 15, 20)
 			t.Logf("  %s: last 5 s command max |%.2f|, mean change per tick %.3f", a, MaxAbs(c), MeanAbsChange(c))
 			if MaxAbs(c) > 0.9 {

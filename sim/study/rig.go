@@ -69,7 +69,7 @@ func (r *Rig) Controller() (*control.Graph, error) {
 	if r.Spec == nil {
 		return nil, nil
 	}
-	g, err := control.Build(r.Spec, sim.Channels(r.Robot), sim.ActuatorNames(r.Robot))
+	g, err := control.Build(r.Spec, models.Channels(r.Robot), models.ActuatorNames(r.Robot))
 	if err != nil {
 		return nil, err
 	}
