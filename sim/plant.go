@@ -683,4 +683,3 @@ func (p *Plant) centreOfPressure() (float64, bool) {
 	}
 	return x / j, true
 }
-
