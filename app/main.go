@@ -24,6 +24,7 @@ import (
 	"io"
 	"os"
 
+	"teeter/app/internal/quietinit"
 	"teeter/sim/study"
 )
 
@@ -37,6 +38,7 @@ type command struct {
 var commands []command
 
 func main() {
+	quietinit.Done()
 	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 }
 
