@@ -23,181 +23,19 @@ func Save(w io.Writer, r *Robot) error {
 	if r.NoiseScale != 1 {
 		e.num(0, "noise_scale", r.NoiseScale)
 	}
-
-	e.line(0, "links:")
-	for _, l := range r.Links {
-		e.item(2, "name", l.Name)
-		e.line(4, "shape:")
-		s := l.Shape
-		e.line(6, string(s.Kind)+":")
-		switch s.Kind {
-		case Box:
-			e.num(8, "width", s.Width)
-			e.num(8, "height", s.Height)
-		case Capsule:
-			e.num(8, "length", s.Length)
-			e.num(8, "radius", s.Radius)
-		case Circle:
-			e.num(8, "radius", s.Radius)
-		}
-		if s.Center != (Vec2{}) {
-			e.vec(6, "center", s.Center)
-		}
-		e.num(4, "mass", l.Mass)
-		if l.Inertia != 0 {
-			e.num(4, "inertia", l.Inertia)
-		}
-		if l.COM != nil {
-			e.vec(4, "com", *l.COM)
-		}
-		if l.Name == r.Root {
-			e.vec(4, "position", l.Position)
-			e.num(4, "angle", l.Angle)
-		}
-	}
-
-	if len(r.Joints) > 0 {
-		e.line(0, "joints:")
-	}
-	for _, j := range r.Joints {
-		e.item(2, "name", j.Name)
-		e.str(4, "kind", string(j.Kind))
-		e.str(4, "parent", j.Parent)
-		e.str(4, "child", j.Child)
-		e.vec(4, "parent_anchor", j.ParentAnchor)
-		e.vec(4, "child_anchor", j.ChildAnchor)
-		if j.Kind == Prismatic {
-			e.vec(4, "axis", j.Axis)
-		}
-		e.num(4, "initial", j.Initial)
-		if j.HasLimits {
-			e.vec(4, "limits", Vec2{j.Lower, j.Upper})
-		}
-		e.num(4, "stiffness", j.Stiffness)
-		e.num(4, "damping", j.Damping)
-		e.num(4, "friction", j.Friction)
-	}
-
-	if len(r.Actuators) > 0 {
-		e.line(0, "actuators:")
-	}
-	for _, a := range r.Actuators {
-		e.item(2, "name", a.Name)
-		e.str(4, "kind", string(a.Kind))
-		switch {
-		case a.Joint != "":
-			e.str(4, "joint", a.Joint)
-		case a.Ballast:
-			e.line(4, "ballast: true")
-		}
-		for _, at := range []struct {
-			key string
-			a   *Attachment
-		}{{"from", a.From}, {"to", a.To}} {
-			if at.a != nil {
-				e.line(4, at.key+":")
-				e.str(6, "link", at.a.Link)
-				e.vec(6, "point", at.a.Point)
-			}
-		}
-		e.vec(4, "stroke", Vec2{a.StrokeMin, a.StrokeMax})
-		e.num(4, "nominal_voltage", a.NominalVoltage)
-		e.num(4, "no_load_speed", a.NoLoadSpeed)
-		e.num(4, "stall_force", a.StallForce)
-		e.num(4, "deadband", a.Deadband)
-		e.num(4, "time_constant", a.TimeConstant)
-		e.num(4, "backlash", a.Backlash)
-		e.num(4, "mount_stiffness", a.MountStiffness)
-		e.num(4, "no_load_current", a.NoLoadCurrent)
-		e.num(4, "stall_current", a.StallCurrent)
-	}
-
+	writeList(e, "links", r.Links, func(l *Link) { e.link(l, l.Name == r.Root) })
+	writeList(e, "joints", r.Joints, e.joint)
+	writeList(e, "actuators", r.Actuators, e.actuator)
 	if r.Ballast != nil {
-		b := r.Ballast
-		e.line(0, "ballast:")
-		e.str(2, "name", b.Name)
-		e.str(2, "link", b.Link)
-		e.num(2, "mass", b.Mass)
-		e.vec(2, "origin", b.Origin)
-		e.vec(2, "axis", b.Axis)
-		e.num(2, "position", b.Position)
-		if b.Min != b.Max || b.Min != b.Position {
-			e.vec(2, "travel", Vec2{b.Min, b.Max})
-		}
-		e.num(2, "size", b.Size)
+		e.ballast(r.Ballast)
 	}
-
-	if len(r.Sensors) > 0 {
-		e.line(0, "sensors:")
+	writeList(e, "sensors", r.Sensors, e.sensor)
+	writeList(e, "feet", r.Feet, e.foot)
+	if r.Battery != nil {
+		e.battery(r.Battery)
 	}
-	for _, s := range r.Sensors {
-		e.item(2, "name", s.Name)
-		e.str(4, "kind", string(s.Kind))
-		switch s.Kind {
-		case IMU:
-			e.str(4, "link", s.Link)
-		case JointPosition:
-			if s.Joint != "" {
-				e.str(4, "joint", s.Joint)
-			} else {
-				e.str(4, "actuator", s.Actuator)
-			}
-			if s.Bits > 0 {
-				e.num(4, "bits", float64(s.Bits))
-			}
-			if s.Min != 0 || s.Max != 0 {
-				e.vec(4, "range", Vec2{s.Min, s.Max})
-			}
-		case FootLoad:
-			e.str(4, "pad", s.Pad)
-		}
-		e.num(4, "rate", s.Rate)
-		e.num(4, "latency", float64(s.Latency))
-		e.num(4, "noise", s.Noise)
-		e.num(4, "bias", s.Bias)
-		if s.Kind == IMU {
-			e.num(4, "rate_noise", s.RateNoise)
-			e.num(4, "rate_bias", s.RateBias)
-		}
-	}
-
-	e.line(0, "feet:")
-	for _, f := range r.Feet {
-		e.item(2, "name", f.Name)
-		e.str(4, "link", f.Link)
-		e.line(4, "pads:")
-		for _, p := range f.Pads {
-			e.item(6, "name", p.Name)
-			e.vec(8, "position", p.Position)
-			e.num(8, "width", p.Width)
-			e.num(8, "thickness", p.Thickness)
-			e.num(8, "mass", p.Mass)
-			e.num(8, "stiffness", p.Stiffness)
-			e.num(8, "damping", p.Damping)
-			e.num(8, "travel", p.Travel)
-			e.num(8, "friction", p.Friction)
-		}
-	}
-
-	if b := r.Battery; b != nil {
-		e.line(0, "battery:")
-		e.num(2, "full_voltage", b.FullVoltage)
-		e.num(2, "empty_voltage", b.EmptyVoltage)
-		e.num(2, "capacity", b.Capacity)
-		e.num(2, "initial_charge", b.InitialCharge)
-		e.num(2, "internal_resistance", b.InternalResistance)
-	}
-
-	e.line(0, "ground:")
-	e.num(2, "friction", r.Ground.Friction)
-	e.num(2, "tilt", r.Ground.Tilt)
-	e.num(2, "step_x", r.Ground.StepX)
-	e.num(2, "step_height", r.Ground.StepHeight)
-
-	e.line(0, "fall:")
-	e.num(2, "max_tilt", r.Fall.MaxTilt)
-	e.str(2, "torso_link", r.Fall.TorsoLink)
-
+	e.ground(&r.Ground)
+	e.fall(&r.Fall)
 	if r.Controller != nil {
 		e.raw("controller:")
 		writeBlock(e, r.Controller, 2)
@@ -206,6 +44,188 @@ func Save(w io.Writer, r *Robot) error {
 		return e.err
 	}
 	return e.w.Flush()
+}
+
+// writeList writes a top-level list section with write for each item; an
+// empty list is left out, as Parse reads a missing list and an empty one
+// alike.
+func writeList[T any](e *emitter, key string, items []T, write func(*T)) {
+	if len(items) == 0 {
+		return
+	}
+	e.line(0, key+":")
+	for i := range items {
+		write(&items[i])
+	}
+}
+
+func (e *emitter) link(l *Link, root bool) {
+	e.item(2, "name", l.Name)
+	e.line(4, "shape:")
+	s := l.Shape
+	e.line(6, string(s.Kind)+":")
+	switch s.Kind {
+	case Box:
+		e.num(8, "width", s.Width)
+		e.num(8, "height", s.Height)
+	case Capsule:
+		e.num(8, "length", s.Length)
+		e.num(8, "radius", s.Radius)
+	case Circle:
+		e.num(8, "radius", s.Radius)
+	}
+	if s.Center != (Vec2{}) {
+		e.vec(6, "center", s.Center)
+	}
+	e.num(4, "mass", l.Mass)
+	if l.Inertia != 0 {
+		e.num(4, "inertia", l.Inertia)
+	}
+	if l.COM != nil {
+		e.vec(4, "com", *l.COM)
+	}
+	// Only the root's pose is written; the others follow from the joints.
+	if root {
+		e.vec(4, "position", l.Position)
+		e.num(4, "angle", l.Angle)
+	}
+}
+
+func (e *emitter) joint(j *Joint) {
+	e.item(2, "name", j.Name)
+	e.str(4, "kind", string(j.Kind))
+	e.str(4, "parent", j.Parent)
+	e.str(4, "child", j.Child)
+	e.vec(4, "parent_anchor", j.ParentAnchor)
+	e.vec(4, "child_anchor", j.ChildAnchor)
+	if j.Kind == Prismatic {
+		e.vec(4, "axis", j.Axis)
+	}
+	e.num(4, "initial", j.Initial)
+	if j.HasLimits {
+		e.vec(4, "limits", Vec2{j.Lower, j.Upper})
+	}
+	e.num(4, "stiffness", j.Stiffness)
+	e.num(4, "damping", j.Damping)
+	e.num(4, "friction", j.Friction)
+}
+
+func (e *emitter) actuator(a *Actuator) {
+	e.item(2, "name", a.Name)
+	e.str(4, "kind", string(a.Kind))
+	switch {
+	case a.Joint != "":
+		e.str(4, "joint", a.Joint)
+	case a.Ballast:
+		e.line(4, "ballast: true")
+	}
+	e.attachment("from", a.From)
+	e.attachment("to", a.To)
+	e.vec(4, "stroke", Vec2{a.StrokeMin, a.StrokeMax})
+	e.num(4, "nominal_voltage", a.NominalVoltage)
+	e.num(4, "no_load_speed", a.NoLoadSpeed)
+	e.num(4, "stall_force", a.StallForce)
+	e.num(4, "deadband", a.Deadband)
+	e.num(4, "time_constant", a.TimeConstant)
+	e.num(4, "backlash", a.Backlash)
+	e.num(4, "mount_stiffness", a.MountStiffness)
+	e.num(4, "no_load_current", a.NoLoadCurrent)
+	e.num(4, "stall_current", a.StallCurrent)
+}
+
+func (e *emitter) attachment(key string, at *Attachment) {
+	if at == nil {
+		return
+	}
+	e.line(4, key+":")
+	e.str(6, "link", at.Link)
+	e.vec(6, "point", at.Point)
+}
+
+func (e *emitter) ballast(b *Ballast) {
+	e.line(0, "ballast:")
+	e.str(2, "name", b.Name)
+	e.str(2, "link", b.Link)
+	e.num(2, "mass", b.Mass)
+	e.vec(2, "origin", b.Origin)
+	e.vec(2, "axis", b.Axis)
+	e.num(2, "position", b.Position)
+	// Parse takes a missing travel as none: the ballast stays at position.
+	if b.Min != b.Max || b.Min != b.Position {
+		e.vec(2, "travel", Vec2{b.Min, b.Max})
+	}
+	e.num(2, "size", b.Size)
+}
+
+func (e *emitter) sensor(s *Sensor) {
+	e.item(2, "name", s.Name)
+	e.str(4, "kind", string(s.Kind))
+	switch s.Kind {
+	case IMU:
+		e.str(4, "link", s.Link)
+	case JointPosition:
+		if s.Joint != "" {
+			e.str(4, "joint", s.Joint)
+		} else {
+			e.str(4, "actuator", s.Actuator)
+		}
+		if s.Bits > 0 {
+			e.num(4, "bits", float64(s.Bits))
+		}
+		if s.Min != 0 || s.Max != 0 {
+			e.vec(4, "range", Vec2{s.Min, s.Max})
+		}
+	case FootLoad:
+		e.str(4, "pad", s.Pad)
+	}
+	e.num(4, "rate", s.Rate)
+	e.num(4, "latency", float64(s.Latency))
+	e.num(4, "noise", s.Noise)
+	e.num(4, "bias", s.Bias)
+	if s.Kind == IMU {
+		e.num(4, "rate_noise", s.RateNoise)
+		e.num(4, "rate_bias", s.RateBias)
+	}
+}
+
+func (e *emitter) foot(f *Foot) {
+	e.item(2, "name", f.Name)
+	e.str(4, "link", f.Link)
+	e.line(4, "pads:")
+	for _, p := range f.Pads {
+		e.item(6, "name", p.Name)
+		e.vec(8, "position", p.Position)
+		e.num(8, "width", p.Width)
+		e.num(8, "thickness", p.Thickness)
+		e.num(8, "mass", p.Mass)
+		e.num(8, "stiffness", p.Stiffness)
+		e.num(8, "damping", p.Damping)
+		e.num(8, "travel", p.Travel)
+		e.num(8, "friction", p.Friction)
+	}
+}
+
+func (e *emitter) battery(b *Battery) {
+	e.line(0, "battery:")
+	e.num(2, "full_voltage", b.FullVoltage)
+	e.num(2, "empty_voltage", b.EmptyVoltage)
+	e.num(2, "capacity", b.Capacity)
+	e.num(2, "initial_charge", b.InitialCharge)
+	e.num(2, "internal_resistance", b.InternalResistance)
+}
+
+func (e *emitter) ground(g *Ground) {
+	e.line(0, "ground:")
+	e.num(2, "friction", g.Friction)
+	e.num(2, "tilt", g.Tilt)
+	e.num(2, "step_x", g.StepX)
+	e.num(2, "step_height", g.StepHeight)
+}
+
+func (e *emitter) fall(f *FallLimits) {
+	e.line(0, "fall:")
+	e.num(2, "max_tilt", f.MaxTilt)
+	e.str(2, "torso_link", f.TorsoLink)
 }
 
 // SaveFile writes r to path through a temporary file in the same folder,
