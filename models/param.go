@@ -53,73 +53,120 @@ func within(lo, hi float64) func(float64) error {
 	}
 }
 
-func actuatorParam(a *Actuator, field string) (param, bool) {
-	switch field {
-	case "backlash":
-		return param{ptr: &a.Backlash, check: atLeast0}, true
-	case "no_load_speed":
-		return param{ptr: &a.NoLoadSpeed, check: above0}, true
-	case "stall_force":
-		return param{ptr: &a.StallForce, check: above0}, true
-	case "deadband":
-		return param{ptr: &a.Deadband, check: func(v float64) error {
-			if v < 0 || v >= 1 {
-				return fmt.Errorf("must be at least 0 and below 1")
-			}
-			return nil
-		}}, true
-	case "time_constant":
-		return param{ptr: &a.TimeConstant, check: atLeast0}, true
-	case "mount_stiffness":
-		return param{ptr: &a.MountStiffness, check: atLeast0}, true
-	case "nominal_voltage":
-		return param{ptr: &a.NominalVoltage, check: above0}, true
+// settable names one number of a list element T and the check a new value
+// must pass; one table per element serves params and ParamPaths.
+type settable[T any] struct {
+	name  string
+	ptr   func(*T) *float64
+	check func(float64) error
+}
+
+var actuatorSettables = []settable[Actuator]{
+	{"backlash", func(a *Actuator) *float64 { return &a.Backlash }, atLeast0},
+	{"no_load_speed", func(a *Actuator) *float64 { return &a.NoLoadSpeed }, above0},
+	{"stall_force", func(a *Actuator) *float64 { return &a.StallForce }, above0},
+	{"deadband", func(a *Actuator) *float64 { return &a.Deadband }, fractionBelow1},
+	{"time_constant", func(a *Actuator) *float64 { return &a.TimeConstant }, atLeast0},
+	{"mount_stiffness", func(a *Actuator) *float64 { return &a.MountStiffness }, atLeast0},
+	{"nominal_voltage", func(a *Actuator) *float64 { return &a.NominalVoltage }, above0},
+}
+
+var padSettables = []settable[Pad]{
+	{"stiffness", func(p *Pad) *float64 { return &p.Stiffness }, above0},
+	{"damping", func(p *Pad) *float64 { return &p.Damping }, atLeast0},
+	{"travel", func(p *Pad) *float64 { return &p.Travel }, atLeast0},
+	{"friction", func(p *Pad) *float64 { return &p.Friction }, within(0, maxFriction)},
+	{"mass", func(p *Pad) *float64 { return &p.Mass }, above0},
+}
+
+func fractionBelow1(v float64) error {
+	if v < 0 || v >= 1 {
+		return fmt.Errorf("must be at least 0 and below 1")
+	}
+	return nil
+}
+
+// inPadGroup reports whether feet.pad_FIELD sets FIELD of every pad: the
+// mass is set one pad at a time only.
+func inPadGroup(field string) bool { return field != "mass" }
+
+// settableParam finds the field called name of x in table.
+func settableParam[T any](table []settable[T], x *T, name string) (param, bool) {
+	for _, s := range table {
+		if s.name == name {
+			return param{ptr: s.ptr(x), check: s.check}, true
+		}
 	}
 	return param{}, false
 }
 
-func padParam(p *Pad, field string) (param, bool) {
-	switch field {
-	case "stiffness":
-		return param{ptr: &p.Stiffness, check: above0}, true
-	case "damping":
-		return param{ptr: &p.Damping, check: atLeast0}, true
-	case "travel":
-		return param{ptr: &p.Travel, check: atLeast0}, true
-	case "friction":
-		return param{ptr: &p.Friction, check: within(0, maxFriction)}, true
-	case "mass":
-		return param{ptr: &p.Mass, check: above0}, true
+// settableNames lists the field names of table, in its order.
+func settableNames[T any](table []settable[T]) []string {
+	out := make([]string, len(table))
+	for i, s := range table {
+		out[i] = s.name
 	}
-	return param{}, false
+	return out
 }
 
-// params resolves a path to the numbers it stands for.
+// params resolves a path to the numbers it stands for. The readers for each
+// section return nil and no error for a path they do not know.
 func params(r *Robot, path string) ([]param, error) {
 	parts := strings.Split(path, ".")
-	bad := fmt.Errorf("unknown parameter %q", path)
-	switch {
-	case len(parts) == 2 && parts[0] == "actuators":
+	var ps []param
+	var err error
+	switch parts[0] {
+	case "actuators":
+		ps, err = actuatorParams(r, path, parts[1:])
+	case "links", "joints":
+		ps, err = linkOrJointParams(r, path, parts)
+	case "ballast":
+		ps, err = ballastParams(r, path, parts[1:])
+	case "feet":
+		ps, err = padParams(r, path, parts[1:])
+	case "battery":
+		ps, err = batteryParams(r, path, parts[1:])
+	default:
+		ps = wholeRobotParams(r, path)
+	}
+	if ps == nil && err == nil {
+		err = fmt.Errorf("unknown parameter %q", path)
+	}
+	return ps, err
+}
+
+// actuatorParams resolves actuators.FIELD (every actuator) and
+// actuators.NAME.FIELD.
+func actuatorParams(r *Robot, path string, rest []string) ([]param, error) {
+	switch len(rest) {
+	case 1:
 		if len(r.Actuators) == 0 {
 			return nil, fmt.Errorf("parameter %q: the robot has no actuators", path)
 		}
 		var ps []param
 		for i := range r.Actuators {
-			p, ok := actuatorParam(&r.Actuators[i], parts[1])
+			p, ok := settableParam(actuatorSettables, &r.Actuators[i], rest[0])
 			if !ok {
-				return nil, bad
+				return nil, nil
 			}
 			ps = append(ps, p)
 		}
 		return ps, nil
-	case len(parts) == 3 && parts[0] == "actuators":
-		a := r.Actuator(parts[1])
+	case 2:
+		a := r.Actuator(rest[0])
 		if a == nil {
-			return nil, fmt.Errorf("parameter %q: no actuator %q", path, parts[1])
+			return nil, fmt.Errorf("parameter %q: no actuator %q", path, rest[0])
 		}
-		if p, ok := actuatorParam(a, parts[2]); ok {
+		if p, ok := settableParam(actuatorSettables, a, rest[1]); ok {
 			return []param{p}, nil
 		}
+	}
+	return nil, nil
+}
+
+// linkOrJointParams resolves links.NAME.mass and joints.NAME.initial.
+func linkOrJointParams(r *Robot, path string, parts []string) ([]param, error) {
+	switch {
 	case len(parts) == 3 && parts[0] == "links" && parts[2] == "mass":
 		l := r.Link(parts[1])
 		if l == nil {
@@ -137,28 +184,42 @@ func params(r *Robot, path string) ([]param, error) {
 			}
 			return nil
 		}}}, nil
-	case len(parts) == 2 && parts[0] == "ballast":
-		b := r.Ballast
-		if b == nil {
-			return nil, fmt.Errorf("parameter %q: the robot has no ballast", path)
-		}
-		switch parts[1] {
-		case "mass":
-			return []param{{ptr: &b.Mass, check: above0}}, nil
-		case "position":
-			return []param{{ptr: &b.Position, check: within(b.Min, b.Max)}}, nil
-		}
-	case len(parts) == 2 && parts[0] == "feet":
-		field, ok := strings.CutPrefix(parts[1], "pad_")
-		if !ok || field == "mass" {
-			return nil, bad
+	}
+	return nil, nil
+}
+
+// ballastParams resolves ballast.mass and ballast.position.
+func ballastParams(r *Robot, path string, rest []string) ([]param, error) {
+	if len(rest) != 1 {
+		return nil, nil
+	}
+	b := r.Ballast
+	if b == nil {
+		return nil, fmt.Errorf("parameter %q: the robot has no ballast", path)
+	}
+	switch rest[0] {
+	case "mass":
+		return []param{{ptr: &b.Mass, check: above0}}, nil
+	case "position":
+		return []param{{ptr: &b.Position, check: within(b.Min, b.Max)}}, nil
+	}
+	return nil, nil
+}
+
+// padParams resolves feet.pad_FIELD (every pad) and feet.PAD.FIELD.
+func padParams(r *Robot, path string, rest []string) ([]param, error) {
+	switch len(rest) {
+	case 1:
+		field, ok := strings.CutPrefix(rest[0], "pad_")
+		if !ok || !inPadGroup(field) {
+			return nil, nil
 		}
 		var ps []param
 		for i := range r.Feet {
 			for k := range r.Feet[i].Pads {
-				p, ok := padParam(&r.Feet[i].Pads[k], field)
+				p, ok := settableParam(padSettables, &r.Feet[i].Pads[k], field)
 				if !ok {
-					return nil, bad
+					return nil, nil
 				}
 				ps = append(ps, p)
 			}
@@ -167,34 +228,49 @@ func params(r *Robot, path string) ([]param, error) {
 			return nil, fmt.Errorf("parameter %q: the robot has no pads", path)
 		}
 		return ps, nil
-	case len(parts) == 3 && parts[0] == "feet":
-		_, pad := r.Pad(parts[1])
+	case 2:
+		_, pad := r.Pad(rest[0])
 		if pad == nil {
-			return nil, fmt.Errorf("parameter %q: no pad %q", path, parts[1])
+			return nil, fmt.Errorf("parameter %q: no pad %q", path, rest[0])
 		}
-		if p, ok := padParam(pad, parts[2]); ok {
+		if p, ok := settableParam(padSettables, pad, rest[1]); ok {
 			return []param{p}, nil
 		}
-	case len(parts) == 2 && parts[0] == "battery":
-		b := r.Battery
-		if b == nil {
-			return nil, fmt.Errorf("parameter %q: the robot has no battery", path)
-		}
-		switch parts[1] {
-		case "voltage":
-			ratio := b.EmptyVoltage / b.FullVoltage
-			return []param{{ptr: &b.FullVoltage, check: above0, after: func() { b.EmptyVoltage = b.FullVoltage * ratio }}}, nil
-		case "charge":
-			return []param{{ptr: &b.InitialCharge, check: within(0, 1)}}, nil
-		}
-	case path == "sensors.noise":
-		return []param{{ptr: &r.NoiseScale, check: atLeast0}}, nil
-	case path == "ground.tilt":
-		return []param{{ptr: &r.Ground.Tilt, check: within(-math.Pi/4, math.Pi/4)}}, nil
-	case path == "ground.friction":
-		return []param{{ptr: &r.Ground.Friction, check: within(0, maxFriction)}}, nil
 	}
-	return nil, bad
+	return nil, nil
+}
+
+// batteryParams resolves battery.voltage (the empty voltage scales along)
+// and battery.charge.
+func batteryParams(r *Robot, path string, rest []string) ([]param, error) {
+	if len(rest) != 1 {
+		return nil, nil
+	}
+	b := r.Battery
+	if b == nil {
+		return nil, fmt.Errorf("parameter %q: the robot has no battery", path)
+	}
+	switch rest[0] {
+	case "voltage":
+		ratio := b.EmptyVoltage / b.FullVoltage
+		return []param{{ptr: &b.FullVoltage, check: above0, after: func() { b.EmptyVoltage = b.FullVoltage * ratio }}}, nil
+	case "charge":
+		return []param{{ptr: &b.InitialCharge, check: within(0, 1)}}, nil
+	}
+	return nil, nil
+}
+
+// wholeRobotParams resolves the paths that name one number of the robot.
+func wholeRobotParams(r *Robot, path string) []param {
+	switch path {
+	case "sensors.noise":
+		return []param{{ptr: &r.NoiseScale, check: atLeast0}}
+	case "ground.tilt":
+		return []param{{ptr: &r.Ground.Tilt, check: within(-math.Pi/4, math.Pi/4)}}
+	case "ground.friction":
+		return []param{{ptr: &r.Ground.Friction, check: within(0, maxFriction)}}
+	}
+	return nil
 }
 
 // GetParam reads the number a parameter path names (SI). A group path reads
@@ -243,7 +319,11 @@ func ParamPaths(r *Robot) []string {
 		out = append(out, "actuators.backlash")
 	}
 	if len(r.Feet) > 0 {
-		out = append(out, "feet.pad_stiffness", "feet.pad_damping", "feet.pad_travel", "feet.pad_friction")
+		for _, f := range settableNames(padSettables) {
+			if inPadGroup(f) {
+				out = append(out, "feet.pad_"+f)
+			}
+		}
 	}
 	out = append(out, "sensors.noise", "ground.tilt", "ground.friction")
 	if r.Battery != nil {
@@ -253,7 +333,7 @@ func ParamPaths(r *Robot) []string {
 		out = append(out, "ballast.mass", "ballast.position")
 	}
 	for _, a := range r.Actuators {
-		for _, f := range []string{"backlash", "no_load_speed", "stall_force", "deadband", "time_constant", "mount_stiffness", "nominal_voltage"} {
+		for _, f := range settableNames(actuatorSettables) {
 			out = append(out, "actuators."+a.Name+"."+f)
 		}
 	}
@@ -265,8 +345,8 @@ func ParamPaths(r *Robot) []string {
 	}
 	for _, f := range r.Feet {
 		for _, p := range f.Pads {
-			for _, k := range []string{"stiffness", "damping", "travel", "friction", "mass"} {
-				out = append(out, "feet."+p.Name+"."+k)
+			for _, f := range settableNames(padSettables) {
+				out = append(out, "feet."+p.Name+"."+f)
 			}
 		}
 	}
