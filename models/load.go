@@ -424,8 +424,21 @@ func readActuator(w *walker, i int, v *Value, s *section, r *Robot) Actuator {
 	o, name := w.element("actuators", i, v, s.actuators)
 	a := Actuator{Name: name, NominalVoltage: 12}
 	a.Kind = ActuatorKind(o.choice("kind", false, string(LeadScrew), string(LeadScrew), string(TorqueMotor)))
+	joint, targets := readActuatorTarget(w, o, &a, s, r)
+	checkDrivenOnce(w, o, &a, joint, r)
+	// Without a clear target either unit kind may be meant; accept both
+	// rather than add doubtful problems to the real one.
+	unitsKnown := targets == 1 && (a.Joint == "" || joint != nil)
+	posKind := readMotor(w, o, &a, unitsKnown)
+	readStroke(w, o, &a, joint, r, posKind)
+	o.done()
+	return a
+}
 
-	// Exactly one target: a joint, the ballast, or a from-to pair.
+// readActuatorTarget reads what a drives: exactly one of a joint, the
+// ballast, or a from-to pair; it sets a.Linear from it. It returns the
+// driven joint when it is a known one, and how many targets were given.
+func readActuatorTarget(w *walker, o *object, a *Actuator, s *section, r *Robot) (*Joint, int) {
 	var targets []string
 	jointIdx := -1
 	if o.has("joint") {
@@ -471,7 +484,13 @@ func readActuator(w *walker, i int, v *Value, s *section, r *Robot) Actuator {
 	case joint != nil:
 		a.Linear = joint.Kind == Prismatic
 	}
-	if joint != nil && name != "" {
+	return joint, len(targets)
+}
+
+// checkDrivenOnce reports a joint or the ballast that an actuator read
+// before a already drives.
+func checkDrivenOnce(w *walker, o *object, a *Actuator, joint *Joint, r *Robot) {
+	if joint != nil && a.Name != "" {
 		for _, other := range r.Actuators {
 			if other.Joint == a.Joint && other.Name != "" {
 				w.add(w.pos[join(o.path, "joint")], join(o.path, "joint"), "joint %q is already driven by actuator %q", a.Joint, other.Name)
@@ -485,11 +504,14 @@ func readActuator(w *walker, i int, v *Value, s *section, r *Robot) Actuator {
 			}
 		}
 	}
+}
 
+// readMotor reads the motor's numbers, in the units of a linear or rotary
+// actuator when unitsKnown and in either otherwise. It returns the kinds
+// its position takes.
+func readMotor(w *walker, o *object, a *Actuator, unitsKnown bool) []Kind {
 	posKind, speedKind, forceKind, stiffKind := actuatorUnits(a.Linear)
-	if len(targets) != 1 || (a.Joint != "" && joint == nil) {
-		// Without a clear target either unit kind may be meant; accept both
-		// rather than add doubtful problems to the real one.
+	if !unitsKnown {
 		posKind, speedKind, forceKind, stiffKind = anyOf(Length, Angle), anyOf(Speed, AngularSpeed),
 			anyOf(Force, Torque), anyOf(LinearStiffness, AngularStiffness)
 	}
@@ -506,7 +528,12 @@ func readActuator(w *walker, i int, v *Value, s *section, r *Robot) Actuator {
 	if w.nonNegative(sc) {
 		w.check(sc, a.StallCurrent == 0 || a.StallCurrent >= a.NoLoadCurrent, "the stall current must not be below the no-load current")
 	}
+	return posKind
+}
 
+// readStroke reads the screw travel, or takes it from the driven joint's
+// limits or the ballast's travel when it is not given.
+func readStroke(w *walker, o *object, a *Actuator, joint *Joint, r *Robot, posKind []Kind) {
 	lo, hi, present := o.pair("stroke", false, posKind...)
 	switch {
 	case lo.ok && hi.ok:
@@ -525,8 +552,6 @@ func readActuator(w *walker, i int, v *Value, s *section, r *Robot) Actuator {
 			w.add(o.pos, join(o.path, "stroke"), "missing required field stroke (the ballast has no travel to take it from)")
 		}
 	}
-	o.done()
-	return a
 }
 
 func readAttachment(w *walker, o *object, key string, links *nameRef) *Attachment {
@@ -554,50 +579,7 @@ func readSensor(w *walker, i int, v *Value, s *section, r *Robot) Sensor {
 		o.forbid("actuator", "actuator is only for joint_position sensors")
 		o.forbid("pad", "pad is only for foot_load sensors")
 	case JointPosition:
-		o.forbid("link", "link is only for imu sensors")
-		o.forbid("pad", "pad is only for foot_load sensors")
-		hasJ, hasA := o.has("joint"), o.has("actuator")
-		if hasJ == hasA {
-			w.add(o.pos, o.path, "a joint_position sensor reads exactly one of joint or actuator")
-		}
-		var lo, hi float64
-		var haveRange, resolved bool
-		if _, ji := o.ref("joint", false, s.joints); ji >= 0 && ji < len(r.Joints) {
-			j := r.Joints[ji]
-			sn.Joint = j.Name
-			if j.Kind == Prismatic {
-				noiseKind = Length
-			}
-			lo, hi, haveRange, resolved = j.Lower, j.Upper, j.HasLimits, true
-		}
-		if _, ai := o.ref("actuator", false, s.actuators); ai >= 0 && ai < len(r.Actuators) {
-			a := r.Actuators[ai]
-			sn.Actuator = a.Name
-			if a.Linear {
-				noiseKind = Length
-			} else {
-				noiseKind = Angle
-			}
-			lo, hi, haveRange, resolved = a.StrokeMin, a.StrokeMax, a.StrokeMin < a.StrokeMax, true
-		}
-		bq := quantity{}
-		if bv := o.get("bits"); bv != nil {
-			bq = w.quantityOf(bv, join(o.path, "bits"), Dimensionless)
-			if w.check(bq, bq.v >= 1 && bq.v <= maxBits && bq.v == math.Trunc(bq.v), "ADC bits must be a whole number from 1 to %d", maxBits) {
-				sn.Bits = int(bq.v)
-			}
-		}
-		rlo, rhi, present := o.pair("range", false, noiseKind)
-		switch {
-		case rlo.ok && rhi.ok:
-			sn.Min, sn.Max = rlo.v, rhi.v
-			w.check(rlo, rlo.v < rhi.v, "the range's low end must be below its high end")
-		case present:
-		case haveRange:
-			sn.Min, sn.Max = lo, hi
-		case sn.Bits > 0 && resolved:
-			w.add(o.pos, join(o.path, "range"), "missing required field range (the readings are quantized over it)")
-		}
+		noiseKind = readJointPositionSource(w, o, &sn, s, r)
 	case FootLoad:
 		noiseKind = Force
 		sn.Pad, _ = o.ref("pad", true, s.pads)
@@ -630,6 +612,58 @@ func readSensor(w *walker, i int, v *Value, s *section, r *Robot) Sensor {
 	}
 	o.done()
 	return sn
+}
+
+// readJointPositionSource reads what a joint_position sensor reads (a joint
+// or an actuator's output), its ADC bits and its range, taken from the
+// joint's limits or the actuator's stroke when not given. It returns the
+// kind its readings have.
+func readJointPositionSource(w *walker, o *object, sn *Sensor, s *section, r *Robot) Kind {
+	noiseKind := Angle
+	o.forbid("link", "link is only for imu sensors")
+	o.forbid("pad", "pad is only for foot_load sensors")
+	hasJ, hasA := o.has("joint"), o.has("actuator")
+	if hasJ == hasA {
+		w.add(o.pos, o.path, "a joint_position sensor reads exactly one of joint or actuator")
+	}
+	var lo, hi float64
+	var haveRange, resolved bool
+	if _, ji := o.ref("joint", false, s.joints); ji >= 0 && ji < len(r.Joints) {
+		j := r.Joints[ji]
+		sn.Joint = j.Name
+		if j.Kind == Prismatic {
+			noiseKind = Length
+		}
+		lo, hi, haveRange, resolved = j.Lower, j.Upper, j.HasLimits, true
+	}
+	if _, ai := o.ref("actuator", false, s.actuators); ai >= 0 && ai < len(r.Actuators) {
+		a := r.Actuators[ai]
+		sn.Actuator = a.Name
+		if a.Linear {
+			noiseKind = Length
+		} else {
+			noiseKind = Angle
+		}
+		lo, hi, haveRange, resolved = a.StrokeMin, a.StrokeMax, a.StrokeMin < a.StrokeMax, true
+	}
+	if bv := o.get("bits"); bv != nil {
+		bq := w.quantityOf(bv, join(o.path, "bits"), Dimensionless)
+		if w.check(bq, bq.v >= 1 && bq.v <= maxBits && bq.v == math.Trunc(bq.v), "ADC bits must be a whole number from 1 to %d", maxBits) {
+			sn.Bits = int(bq.v)
+		}
+	}
+	rlo, rhi, present := o.pair("range", false, noiseKind)
+	switch {
+	case rlo.ok && rhi.ok:
+		sn.Min, sn.Max = rlo.v, rhi.v
+		w.check(rlo, rlo.v < rhi.v, "the range's low end must be below its high end")
+	case present:
+	case haveRange:
+		sn.Min, sn.Max = lo, hi
+	case sn.Bits > 0 && resolved:
+		w.add(o.pos, join(o.path, "range"), "missing required field range (the readings are quantized over it)")
+	}
+	return noiseKind
 }
 
 // readLatency takes whole samples (a bare count) or a duration that must be
