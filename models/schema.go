@@ -185,34 +185,34 @@ func (o *object) boolean(key string) (bool, *Value) {
 	return false, nil
 }
 
-// quantity is a number read from the file with where it was written, for
-// range checks that point at it.
-type quantity struct {
+// fileNumber is a number read from the file, in SI, with where it was
+// written, for range checks that point at it.
+type fileNumber struct {
 	v    float64
 	pos  Pos
 	path string
 	ok   bool // present and valid
 }
 
-func (w *walker) quantityOf(v *Value, path string, kinds ...Kind) quantity {
+func (w *walker) quantityOf(v *Value, path string, kinds ...Kind) fileNumber {
 	s, ok := w.scalar(v, path)
 	if !ok {
-		return quantity{pos: v.Pos, path: path}
+		return fileNumber{pos: v.Pos, path: path}
 	}
 	x, _, err := ParseQuantity(s, kinds...)
 	if err != nil {
 		w.add(v.Pos, path, "%s", err.Error())
-		return quantity{pos: v.Pos, path: path}
+		return fileNumber{pos: v.Pos, path: path}
 	}
-	return quantity{v: x, pos: v.Pos, path: path, ok: true}
+	return fileNumber{v: x, pos: v.Pos, path: path, ok: true}
 }
 
 // num reads a quantity field into dst. dst keeps its value (the default)
 // when the field is absent or wrong.
-func (o *object) num(key string, required bool, dst *float64, kinds ...Kind) quantity {
+func (o *object) num(key string, required bool, dst *float64, kinds ...Kind) fileNumber {
 	v := o.field(key, required)
 	if v == nil {
-		return quantity{pos: o.pos, path: join(o.path, key)}
+		return fileNumber{pos: o.pos, path: join(o.path, key)}
 	}
 	q := o.w.quantityOf(v, join(o.path, key), kinds...)
 	if q.ok {
@@ -222,15 +222,15 @@ func (o *object) num(key string, required bool, dst *float64, kinds ...Kind) qua
 }
 
 // pair reads a two-element list such as a point [x, y] or a range [lo, hi].
-func (o *object) pair(key string, required bool, kinds ...Kind) (a, b quantity, present bool) {
+func (o *object) pair(key string, required bool, kinds ...Kind) (a, b fileNumber, present bool) {
 	v := o.field(key, required)
 	if v == nil {
-		return quantity{}, quantity{}, false
+		return fileNumber{}, fileNumber{}, false
 	}
 	path := join(o.path, key)
 	if v.Kind != List || len(v.Items) != 2 {
 		o.w.add(v.Pos, path, "should be a list of two values like [1, 2], not %s", describe(v))
-		return quantity{}, quantity{}, true
+		return fileNumber{}, fileNumber{}, true
 	}
 	a = o.w.quantityOf(&v.Items[0], path+"[0]", kinds...)
 	b = o.w.quantityOf(&v.Items[1], path+"[1]", kinds...)
@@ -275,7 +275,7 @@ func (o *object) list(key string, required bool) []Value {
 }
 
 // check reports q when it is valid but cond fails.
-func (w *walker) check(q quantity, cond bool, format string, args ...any) bool {
+func (w *walker) check(q fileNumber, cond bool, format string, args ...any) bool {
 	if q.ok && !cond {
 		w.add(q.pos, q.path, format, args...)
 		return false
@@ -283,15 +283,15 @@ func (w *walker) check(q quantity, cond bool, format string, args ...any) bool {
 	return true
 }
 
-func (w *walker) positive(q quantity) bool {
+func (w *walker) positive(q fileNumber) bool {
 	return w.check(q, q.v > 0, "must be greater than zero")
 }
 
-func (w *walker) nonNegative(q quantity) bool {
+func (w *walker) nonNegative(q fileNumber) bool {
 	return w.check(q, q.v >= 0, "must not be negative")
 }
 
-func (w *walker) between(q quantity, lo, hi float64, unit string) bool {
+func (w *walker) between(q fileNumber, lo, hi float64, unit string) bool {
 	return w.check(q, q.v >= lo && q.v <= hi, "must be between %s and %s", fmtUnit(lo, unit), fmtUnit(hi, unit))
 }
 
