@@ -83,7 +83,7 @@ func bareSpace(p *Plant) *cp.Space {
 func benchPlant(b *testing.B) *Plant {
 	b.Helper()
 	r := loadBuiltin(b, "frontal")
-	p, err := New(r, NewHoldPose(r), Options{RecordCapacity: 10000})
+	p, err := New(r, NewHoldPose(), Options{RecordCapacity: 10000})
 	if err != nil {
 		b.Fatal(err)
 	}

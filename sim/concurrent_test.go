@@ -21,7 +21,7 @@ func TestPlantsBuildAndRunConcurrently(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			p, err := New(r.Clone(), NewHoldPose(r), Options{Seed: uint64(i)})
+			p, err := New(r.Clone(), NewHoldPose(), Options{Seed: uint64(i)})
 			if err == nil {
 				err = p.RunFor(0.05)
 			}

@@ -1,15 +1,12 @@
 package sim
 
-import (
-	"math"
-
-	"teeter/models"
-)
+import "math"
 
 // HoldPose is a stand-in controller that drives every actuator back to the
 // position it had when the plant was built, with a proportional command on
-// the true screw position error (for a torque motor, the output's). It reads the plant's actuators directly,
-// so it only works on the plant it is given to (New or SetController).
+// the true screw position error (for a torque motor, the output's). It
+// reads the plant's actuators directly, so it only works on the plant it is
+// given to (New or SetController).
 type HoldPose struct {
 	// TimeConstant is the closed loop's time constant, s (default 0.05):
 	// the command is error / (no-load speed * TimeConstant).
@@ -48,6 +45,6 @@ func (h *HoldPose) Tick(now float64, readings, commands []float64) {
 	}
 }
 
-// NewHoldPose returns a hold-pose controller for a plant of robot r; it
-// takes its targets from the plant it is given to.
-func NewHoldPose(r *models.Robot) *HoldPose { return &HoldPose{} }
+// NewHoldPose returns a hold-pose controller; it takes its targets from the
+// plant it is given to.
+func NewHoldPose() *HoldPose { return &HoldPose{} }

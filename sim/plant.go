@@ -18,8 +18,8 @@ type Options struct {
 	// PhysicsRate is the fixed physics step rate, Hz (default 1000).
 	PhysicsRate float64
 	// ControlRate is the rate the controller is called and the recorder
-	// writes a row, Hz (default: the robot's controller section "rate", or
-	// 200). It may not exceed PhysicsRate.
+	// writes a row, Hz (default DefaultControlRate). It may not exceed
+	// PhysicsRate.
 	ControlRate float64
 	// Seed seeds every sensor's noise.
 	Seed uint64
@@ -30,9 +30,13 @@ type Options struct {
 	RecordCapacity int
 }
 
+// DefaultControlRate is the controller rate, Hz, when Options give none:
+// that of HoldPose and of a plant without a controller. A controller graph
+// has its own rate, which whoever joins it to the plant passes in Options.
+const DefaultControlRate = 200.0
+
 const (
 	defaultPhysicsRate = 1000
-	defaultControlRate = 200
 	// Speeds above these mean the simulation has blown up.
 	maxSpeed        = 50  // m/s
 	maxAngularSpeed = 500 // rad/s
@@ -42,8 +46,12 @@ const (
 var ErrFallen = errors.New("robot fell")
 
 // ErrBlowUp is wrapped by the error Step returns when the simulation became
-// numerically unstable.
+// numerically unstable or the engine failed.
 var ErrBlowUp = errors.New("simulation blew up")
+
+// ErrController is wrapped by the error Step returns when the controller
+// panicked; the error carries the panic's value.
+var ErrController = errors.New("controller failed")
 
 // FallInfo says when and why the robot fell.
 type FallInfo struct {
@@ -128,10 +136,7 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 		p.physRate = defaultPhysicsRate
 	}
 	if p.ctrlRate == 0 {
-		p.ctrlRate, err = controllerRate(r)
-		if err != nil {
-			return nil, fmt.Errorf("sim: robot %q: %w", r.Name, err)
-		}
+		p.ctrlRate = DefaultControlRate
 	}
 	if !finite(p.physRate, p.ctrlRate) || p.physRate <= 0 || p.ctrlRate <= 0 {
 		return nil, fmt.Errorf("sim: rates must be positive: physics %g Hz, control %g Hz", p.physRate, p.ctrlRate)
@@ -166,22 +171,6 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 	p.rec = p.newRecorder(opt.RecordCapacity)
 	p.remap()
 	return p, nil
-}
-
-// controllerRate reads the "rate" field of the robot's controller section.
-func controllerRate(r *models.Robot) (float64, error) {
-	if r.Controller == nil {
-		return defaultControlRate, nil
-	}
-	f, ok := r.Controller.Get("rate")
-	if !ok || f.Value.Kind != models.Scalar {
-		return defaultControlRate, nil
-	}
-	v, _, err := models.ParseQuantity(f.Value.Text, models.Frequency)
-	if err != nil {
-		return 0, fmt.Errorf("%s: controller rate: %v", f.Value.Pos, err)
-	}
-	return v, nil
 }
 
 // check rejects what would make cp divide by zero or assert.
@@ -513,9 +502,9 @@ func (p *Plant) RunFor(d float64) error {
 
 // Step advances one physics step: sensors sample when due, the controller
 // ticks when due (and a recorder row is written), disturbances, actuators
-// and the engine step follow, then the fall and blow-up checks. After a fall
-// or blow-up Step does nothing and returns the same error, which wraps
-// ErrFallen or ErrBlowUp.
+// and the engine step follow, then the fall and blow-up checks. After a
+// fall, a blow-up or a controller failure Step does nothing and returns the
+// same error, which wraps ErrFallen, ErrBlowUp or ErrController.
 func (p *Plant) Step() (err error) {
 	if p.err != nil {
 		return p.err
@@ -531,8 +520,9 @@ func (p *Plant) Step() (err error) {
 	p.sample()
 	if float64(p.step) >= float64(p.ticks)*p.physRate/p.ctrlRate-1e-6 {
 		p.ticks++
-		if p.controller != nil {
-			p.controller.Tick(now, p.readings, p.commands)
+		if e := p.tick(now); e != nil {
+			p.err = e
+			return e
 		}
 		for i := range p.commands {
 			c := p.commands[i]
@@ -542,9 +532,6 @@ func (p *Plant) Step() (err error) {
 				c = 1
 			}
 			p.acts[i].command = c
-		}
-		if p.signals != nil {
-			p.signals.Signals(p.sigBuf)
 		}
 		p.record(now)
 	}
@@ -578,6 +565,24 @@ func (p *Plant) Step() (err error) {
 	p.saveGood()
 	p.checkFall()
 	return p.err
+}
+
+// tick runs the controller and reads its signals. A panic there is the
+// controller's failure, not the physics': it is caught apart from the
+// engine's, and the physics is left as it was.
+func (p *Plant) tick(now float64) (err error) {
+	defer func() {
+		if e := recover(); e != nil {
+			err = fmt.Errorf("%w at %.4f s: %v", ErrController, now, e)
+		}
+	}()
+	if p.controller != nil {
+		p.controller.Tick(now, p.readings, p.commands)
+	}
+	if p.signals != nil {
+		p.signals.Signals(p.sigBuf)
+	}
+	return nil
 }
 
 func (p *Plant) checkBlowUp() error {

@@ -96,6 +96,59 @@ func TestBlowUp(t *testing.T) {
 	}
 }
 
+// brokenBlock is a controller whose tick panics from at on, with an error
+// worded as the control package words a failing block.
+type brokenBlock struct{ at float64 }
+
+const brokenBlockText = `control: block "body_loop" (pid): output is not finite`
+
+func (brokenBlock) Reset() {}
+func (c brokenBlock) Tick(now float64, readings, commands []float64) {
+	if now >= c.at {
+		panic(errors.New(brokenBlockText))
+	}
+}
+
+// failingSolver is a constraint that panics inside the engine step, as cp
+// does when one of its assertions fails.
+type failingSolver struct{}
+
+func (failingSolver) PreStep(dt float64)                { panic("solver failed") }
+func (failingSolver) ApplyCachedImpulse(dtCoef float64) {}
+func (failingSolver) ApplyImpulse(dt float64)           {}
+func (failingSolver) GetImpulse() float64               { return 0 }
+
+func TestAPanicIsBlamedOnWhereItHappened(t *testing.T) {
+	// A panic in the controller's tick is the controller's failure, with
+	// the panic's own text kept word for word; one inside the engine step
+	// is the physics'.
+	p, err := New(stick(0, 0.5), brokenBlock{at: 0.1}, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = p.RunFor(1)
+	if !errors.Is(err, ErrController) || errors.Is(err, ErrBlowUp) || !strings.Contains(err.Error(), brokenBlockText) {
+		t.Fatalf("a panicking controller gave %v, want ErrController carrying %q", err, brokenBlockText)
+	}
+	// The tick at 0.1 s failed, before its physics step.
+	if got := p.Time(); math.Abs(got-0.1) > 1e-9 {
+		t.Errorf("stopped at %g s, want 0.1 s", got)
+	}
+	if again := p.Step(); again != err {
+		t.Errorf("stepping on after the failure: %v, want the same error", again)
+	}
+
+	p, err = New(stick(0, 0.5), NewHoldPose(), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.space.AddConstraint(cp.NewConstraint(failingSolver{}, p.links[0].body, p.links[1].body))
+	err = p.Step()
+	if !errors.Is(err, ErrBlowUp) || errors.Is(err, ErrController) || !strings.Contains(err.Error(), "engine failure: solver failed") {
+		t.Fatalf("a panic in the engine gave %v, want ErrBlowUp for an engine failure", err)
+	}
+}
+
 func loadBuiltin(t testing.TB, name string) *models.Robot {
 	t.Helper()
 	r, err := models.Load("builtin:" + name)
@@ -107,7 +160,7 @@ func loadBuiltin(t testing.TB, name string) *models.Robot {
 
 func TestBuiltinsStand(t *testing.T) {
 	for _, name := range models.BuiltinNames() {
-		p, err := New(loadBuiltin(t, name), NewHoldPose(nil), Options{})
+		p, err := New(loadBuiltin(t, name), NewHoldPose(), Options{})
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
 		}
@@ -125,7 +178,7 @@ func TestFrontalFallsWhenShoved(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	p, err := New(r, NewHoldPose(r), Options{Shoves: []Shove{sh}})
+	p, err := New(r, NewHoldPose(), Options{Shoves: []Shove{sh}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -141,7 +194,7 @@ func record(t *testing.T, seed uint64) []byte {
 	t.Helper()
 	r := loadBuiltin(t, "frontal")
 	shoves := []Shove{{At: 0.5, Impulse: models.Vec2{X: 1}}, {At: 1, Impulse: models.Vec2{X: -2}, Hold: 0.1}}
-	p, err := New(r, NewHoldPose(r), Options{Seed: seed, Shoves: shoves})
+	p, err := New(r, NewHoldPose(), Options{Seed: seed, Shoves: shoves})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -170,7 +223,7 @@ func TestDeterminism(t *testing.T) {
 
 func TestStepDoesNotAllocate(t *testing.T) {
 	r := loadBuiltin(t, "frontal")
-	p, err := New(r, NewHoldPose(r), Options{RecordCapacity: 1000})
+	p, err := New(r, NewHoldPose(), Options{RecordCapacity: 1000})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -192,7 +245,7 @@ func TestStepDoesNotAllocate(t *testing.T) {
 
 func TestRecorder(t *testing.T) {
 	r := loadBuiltin(t, "frontal")
-	p, err := New(r, NewHoldPose(r), Options{RecordCapacity: 50, ControlRate: 100})
+	p, err := New(r, NewHoldPose(), Options{RecordCapacity: 50, ControlRate: 100})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -280,7 +333,7 @@ func TestParseShove(t *testing.T) {
 
 func TestSnapshotCopy(t *testing.T) {
 	r := loadBuiltin(t, "sagittal")
-	p, err := New(r, NewHoldPose(r), Options{})
+	p, err := New(r, NewHoldPose(), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

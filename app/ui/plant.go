@@ -44,7 +44,7 @@ func buildPlant(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	rate := 200.0 // sim.HoldPose's rate when there is no controller graph
+	rate := sim.DefaultControlRate // sim.HoldPose's rate when there is no controller graph
 	if spec != nil && spec.Rate > 0 {
 		rate = spec.Rate
 	}

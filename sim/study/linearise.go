@@ -116,7 +116,7 @@ func (r *Rig) measure(opt LineariseOptions, kicks []kick, outputs []string, maxS
 	if err != nil {
 		return nil, err
 	}
-	rate := 200.0
+	rate := sim.DefaultControlRate
 	if g, _ := r.Controller(); g != nil {
 		rate = g.Rate()
 	}

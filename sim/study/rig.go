@@ -95,7 +95,7 @@ func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
 			opt.ControlRate = g.Rate()
 		}
 	} else {
-		c = sim.NewHoldPose(r.Robot)
+		c = sim.NewHoldPose()
 	}
 	p, err := sim.New(r.Robot, c, opt)
 	if err != nil {
