@@ -4,7 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
-	goio "io"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -31,24 +31,31 @@ const (
 // formatFloat writes the shortest text that reads back to the same float64.
 func formatFloat(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 
+// gainFileJSON is the JSON form of a gain file. encoding/json writes the
+// fields in this order and the gains in sorted order of path.
+type gainFileJSON struct {
+	Format  string `json:"format"`
+	Version int    `json:"version"`
+	Rate    string `json:"rate"`
+	// The values are json.Number holding formatFloat's text because
+	// encoding/json would write 1e-05 as 0.00001 and 1e+21 as 1e21; the
+	// files keep the one number form the YAML writer and the C header use.
+	Gains map[string]json.Number `json:"gains"`
+}
+
 // MarshalGainsJSON writes a gain set as JSON, paths sorted, byte for byte the
-// same for the same set.
+// same for the same set. The values must be finite, as Set, Apply and
+// ParseGains make them: JSON has no other numbers.
 func MarshalGainsJSON(gs GainSet) []byte {
-	var b bytes.Buffer
-	fmt.Fprintf(&b, "{\n  \"format\": %q,\n  \"version\": %d,\n  \"rate\": \"%s Hz\",\n  \"gains\": {", gainFormat, gainVersion, formatFloat(gs.Rate))
-	gains := sortedCopy(gs.Gains)
-	for i, e := range gains {
-		if i > 0 {
-			b.WriteByte(',')
-		}
-		key, _ := json.Marshal(e.Path)
-		fmt.Fprintf(&b, "\n    %s: %s", key, formatFloat(e.Value))
+	f := gainFileJSON{Format: gainFormat, Version: gainVersion, Rate: formatFloat(gs.Rate) + " Hz", Gains: make(map[string]json.Number, len(gs.Gains))}
+	for _, e := range gs.Gains {
+		f.Gains[e.Path] = json.Number(formatFloat(e.Value))
 	}
-	if len(gains) > 0 {
-		b.WriteString("\n  ")
+	data, err := json.MarshalIndent(f, "", "  ")
+	if err != nil {
+		panic("control: a gain set with a value JSON cannot hold: " + err.Error())
 	}
-	b.WriteString("}\n}\n")
-	return b.Bytes()
+	return append(data, '\n')
 }
 
 // MarshalGainsYAML writes a gain set as YAML, paths sorted.
@@ -158,8 +165,14 @@ func ReadGains(file string) (GainSet, error) {
 }
 
 // WriteGains saves a gain set, as JSON when the file name ends in .json and
-// as YAML otherwise.
+// as YAML otherwise. It refuses a value that is not finite, which neither
+// form could read back.
 func WriteGains(file string, gs GainSet) error {
+	for _, e := range gs.Gains {
+		if !isFinite(e.Value) {
+			return fmt.Errorf("%s: gain %s is %v, not a finite number", file, e.Path, e.Value)
+		}
+	}
 	if strings.EqualFold(filepath.Ext(file), ".json") {
 		return writeBytes(file, MarshalGainsJSON(gs))
 	}
@@ -169,7 +182,7 @@ func WriteGains(file string, gs GainSet) error {
 // writeBytes saves data through models.WriteFileAtomic, the one place that
 // writes files, so a reader never sees half a file.
 func writeBytes(file string, data []byte) error {
-	return models.WriteFileAtomic(file, func(w goio.Writer) error {
+	return models.WriteFileAtomic(file, func(w io.Writer) error {
 		_, err := w.Write(data)
 		return err
 	})

@@ -2,6 +2,7 @@ package control
 
 import (
 	"bytes"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -164,5 +165,42 @@ func TestGraphCHeaderFile(t *testing.T) {
 		if !strings.Contains(string(data), want) {
 			t.Errorf("header lacks %q", want)
 		}
+	}
+}
+
+func TestGainsJSONForm(t *testing.T) {
+	// The layout of SCHEMA.md's gain set file, written out by hand: two-space
+	// indent, paths sorted, numbers in strconv's shortest 'g' form (Go
+	// documentation: 1e-05 rather than 0.00001).
+	gs := GainSet{Rate: 200, Gains: []Gain{{Path: "b.ki", Value: 1e-05}, {Path: "a.kp", Value: 2.5}}}
+	want := `{
+  "format": "teeter-gains",
+  "version": 1,
+  "rate": "200 Hz",
+  "gains": {
+    "a.kp": 2.5,
+    "b.ki": 1e-05
+  }
+}
+`
+	if got := string(MarshalGainsJSON(gs)); got != want {
+		t.Errorf("JSON form\n got:\n%s\nwant:\n%s", got, want)
+	}
+	empty := "{\n  \"format\": \"teeter-gains\",\n  \"version\": 1,\n  \"rate\": \"0 Hz\",\n  \"gains\": {}\n}\n"
+	if got := string(MarshalGainsJSON(GainSet{})); got != empty {
+		t.Errorf("empty set\n got:\n%s\nwant:\n%s", got, empty)
+	}
+}
+
+func TestWriteGainsRefusesNonFinite(t *testing.T) {
+	// JSON has no NaN (RFC 8259, section 6) and the gain reader takes only
+	// finite numbers, so such a file could not be read back.
+	file := filepath.Join(t.TempDir(), "g.json")
+	err := WriteGains(file, GainSet{Rate: 200, Gains: []Gain{{Path: "a.kp", Value: math.NaN()}}})
+	if err == nil || !strings.Contains(err.Error(), "a.kp") {
+		t.Fatalf("WriteGains with a NaN gain: %v, want an error naming a.kp", err)
+	}
+	if _, serr := os.Stat(file); serr == nil {
+		t.Error("a file was written anyway")
 	}
 }

@@ -1,12 +1,17 @@
 package control
 
 import (
+	"cmp"
 	"fmt"
 	"slices"
 	"sort"
 	"strings"
 	"sync"
 	"sync/atomic"
+
+	"gonum.org/v1/gonum/graph"
+	"gonum.org/v1/gonum/graph/simple"
+	"gonum.org/v1/gonum/graph/topo"
 
 	"teeter/models"
 )
@@ -60,10 +65,11 @@ func resolve(spec *Spec, ps *models.Problems) *wiring {
 		return nil
 	}
 	next := feeds(spec, w)
-	if !findLoops(spec, next, ps) {
+	g := tickGraph(next)
+	if !findLoops(spec, next, g, ps) {
 		return nil
 	}
-	w.order = evaluationOrder(next)
+	w.order = evaluationOrder(g)
 	return w
 }
 
@@ -71,7 +77,7 @@ func resolve(spec *Spec, ps *models.Problems) *wiring {
 // output) or a number.
 func resolveSource(spec *Spec, byName map[string]int, text string) (source, string) {
 	if c := text[0]; (c >= '0' && c <= '9') || c == '-' || c == '+' || c == '.' {
-		x, _, err := parseNumber(&models.Value{Kind: models.Scalar, Text: text}, qSignal)
+		x, _, err := parseNumber(&models.Value{Kind: models.Scalar, Text: text}, mSignal)
 		if err != nil {
 			return source{}, err.Error()
 		}
@@ -121,68 +127,54 @@ func feeds(spec *Spec, w *wiring) [][]int {
 	return out
 }
 
+// tickGraph is next (from feeds) as a gonum graph whose node IDs are block
+// indices. A simple graph holds no edge from a node to itself, so a block
+// fed by itself is found from next.
+func tickGraph(next [][]int) *simple.DirectedGraph {
+	g := simple.NewDirectedGraph()
+	for i := range next {
+		g.AddNode(simple.Node(i))
+	}
+	for i, list := range next {
+		for _, u := range list {
+			if u != i {
+				g.SetEdge(g.NewEdge(simple.Node(i), simple.Node(u)))
+			}
+		}
+	}
+	return g
+}
+
 // findLoops reports each strongly connected group of blocks that has no
 // delay in it, naming one loop through it, and reports whether there were
-// none. The groups are Tarjan's strongly connected components.
-func findLoops(spec *Spec, next [][]int, ps *models.Problems) bool {
-	n := len(next)
-	index, low := make([]int, n), make([]int, n)
-	onStack := make([]bool, n)
-	for i := range index {
-		index[i] = -1
-	}
-	var stack []int
-	var comps [][]int
-	counter := 0
-	var visit func(v int)
-	visit = func(v int) {
-		index[v], low[v] = counter, counter
-		counter++
-		stack = append(stack, v)
-		onStack[v] = true
-		for _, u := range next[v] {
-			if index[u] < 0 {
-				visit(u)
-				low[v] = min(low[v], low[u])
-			} else if onStack[u] {
-				low[v] = min(low[v], index[u])
-			}
-		}
-		if low[v] == index[v] {
-			var comp []int
-			for {
-				u := stack[len(stack)-1]
-				stack = stack[:len(stack)-1]
-				onStack[u] = false
-				comp = append(comp, u)
-				if u == v {
-					break
-				}
-			}
-			comps = append(comps, comp)
-		}
-	}
-	for v := 0; v < n; v++ {
-		if index[v] < 0 {
-			visit(v)
-		}
-	}
+// none.
+func findLoops(spec *Spec, next [][]int, g *simple.DirectedGraph, ps *models.Problems) bool {
 	ok := true
-	for _, comp := range comps {
-		if len(comp) == 1 && !slices.Contains(next[comp[0]], comp[0]) {
+	for _, comp := range topo.TarjanSCC(g) {
+		blocks := blockIndices(comp)
+		if len(blocks) == 1 && !slices.Contains(next[blocks[0]], blocks[0]) {
 			continue
 		}
 		ok = false
-		sort.Ints(comp)
-		cycle := cycleThrough(comp[0], comp, next)
+		cycle := cycleThrough(blocks[0], blocks, next)
 		names := make([]string, len(cycle))
 		for i, b := range cycle {
 			names[i] = spec.Blocks[b].Name
 		}
-		start := spec.Blocks[comp[0]]
+		start := spec.Blocks[blocks[0]]
 		ps.Add(start.Pos, blockPath(start.Name), "loop without a delay: %s", strings.Join(names, " -> "))
 	}
 	return ok
+}
+
+// blockIndices gives the block indices of graph nodes, sorted.
+func blockIndices(nodes []graph.Node) []int {
+	out := make([]int, len(nodes))
+	for i, n := range nodes {
+		out[i] = int(n.ID())
+	}
+	sort.Ints(out)
+	return out
 }
 
 // cycleThrough finds a path from start back to itself inside comp, taking
@@ -213,32 +205,24 @@ func cycleThrough(start int, comp []int, next [][]int) []int {
 	return path
 }
 
-// evaluationOrder sorts the blocks so that each comes after the blocks that
-// feed it within a tick (next, from feeds), keeping file order where there
-// is a choice.
-func evaluationOrder(next [][]int) []int {
-	n := len(next)
-	indegree := make([]int, n)
-	for _, list := range next {
-		for _, u := range list {
-			indegree[u]++
-		}
+// evaluationOrder sorts the blocks of a loop-free tick graph so that each
+// comes after the blocks that feed it within a tick. Where the wiring leaves
+// a choice, topo.SortStabilized settles it by block index, so a file whose
+// blocks are already written in feed order runs in file order.
+func evaluationOrder(g *simple.DirectedGraph) []int {
+	sorted, err := topo.SortStabilized(g, byID)
+	if err != nil {
+		panic("control: evaluation order of a graph with a loop: " + err.Error()) // findLoops refused it first
 	}
-	done := make([]bool, n)
-	order := make([]int, 0, n)
-	for len(order) < n {
-		for v := 0; v < n; v++ {
-			if !done[v] && indegree[v] == 0 {
-				done[v] = true
-				order = append(order, v)
-				for _, u := range next[v] {
-					indegree[u]--
-				}
-				break
-			}
-		}
+	out := make([]int, len(sorted))
+	for i, n := range sorted {
+		out[i] = int(n.ID())
 	}
-	return order
+	return out
+}
+
+func byID(nodes []graph.Node) {
+	slices.SortFunc(nodes, func(a, b graph.Node) int { return cmp.Compare(a.ID(), b.ID()) })
 }
 
 func checkWiring(spec *Spec, ps *models.Problems) { resolve(spec, ps) }
@@ -250,8 +234,11 @@ func checkWiring(spec *Spec, ps *models.Problems) { resolve(spec, ps) }
 type Graph struct {
 	rate, h float64
 	order   []block
-	delays  []*delayBlock
-	vals    []float64
+	// orderSpecs holds the spec of each block in order, to name a block
+	// whose tick panics.
+	orderSpecs []*BlockSpec
+	delays     []*delayBlock
+	vals       []float64
 	// signal slots come first in vals, then the literal inputs
 	signalNames []string
 	literals    []float64
@@ -299,7 +286,9 @@ type buildContext struct {
 	sequencers map[string]*sequencerBlock
 }
 
-func (c *buildContext) io(b *BlockSpec) io {
+// ports finds the slots of the inputs and the first output of the block
+// being built, giving each literal input a slot of its own.
+func (c *buildContext) ports() ports {
 	srcs := c.w.sources[c.index]
 	in := make([]int, len(srcs))
 	for i, s := range srcs {
@@ -313,7 +302,7 @@ func (c *buildContext) io(b *BlockSpec) io {
 			in[i] = c.firstSlot[s.block] + s.output
 		}
 	}
-	return io{in: in, out: c.firstSlot[c.index]}
+	return ports{in: in, out: c.firstSlot[c.index]}
 }
 
 // bind sets a built block's field from the parameter and, for a tunable
@@ -382,6 +371,7 @@ func Build(spec *Spec, channels, actuators []string) (*Graph, error) {
 	}
 	for _, i := range w.order {
 		g.order = append(g.order, built[i])
+		g.orderSpecs = append(g.orderSpecs, spec.Blocks[i])
 	}
 	g.vals = make([]float64, c.literalAt+len(g.literals))
 	for i := range g.params {
@@ -460,6 +450,10 @@ func (g *Graph) Reset() {
 // Tick computes the actuator commands from the readings at time now.
 // Actuators no block drives get 0. Short slices are tolerated: a missing
 // reading reads as the last value, a missing command is not written.
+//
+// A panic in a block's tick is a bug in that block; Tick panics on with an
+// error naming the block and its kind, so that it is not taken for a
+// failure of whatever runs the graph.
 func (g *Graph) Tick(now float64, readings, commands []float64) {
 	g.now, g.readings, g.commands = now, readings, commands
 	if g.pending.Load() {
@@ -470,13 +464,24 @@ func (g *Graph) Tick(now float64, readings, commands []float64) {
 	for i := range commands {
 		commands[i] = 0
 	}
-	for _, b := range g.order {
-		b.tick(g)
-	}
+	g.tickBlocks()
 	for _, d := range g.delays {
 		d.latch(g)
 	}
 	g.readings, g.commands = nil, nil
+}
+
+func (g *Graph) tickBlocks() {
+	at := 0
+	defer func() {
+		if r := recover(); r != nil {
+			b := g.orderSpecs[at]
+			panic(fmt.Errorf("control: block %q (%s): %v", b.Name, b.Kind, r))
+		}
+	}()
+	for ; at < len(g.order); at++ {
+		g.order[at].tick(g)
+	}
 }
 
 // applyLocked brings requested parameter values and event requests into

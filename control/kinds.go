@@ -49,14 +49,14 @@ type block interface {
 	tick(g *Graph)
 }
 
-// io is the part every built block shares: where its inputs come from and
+// ports is the part every built block shares: where its inputs come from and
 // where its first output goes.
-type io struct {
+type ports struct {
 	in  []int // slot of each input, -1 for an unwired optional input
 	out int   // slot of the first output
 }
 
-func (c *io) input(g *Graph, i int) float64 { return g.vals[c.in[i]] }
+func (p *ports) input(g *Graph, i int) float64 { return g.vals[p.in[i]] }
 
 // --- sources ---
 
@@ -66,12 +66,12 @@ func parseSensor(r *reader) {
 }
 
 type sensorBlock struct {
-	io
+	ports
 	channel int
 }
 
 func buildSensor(b *BlockSpec, c *buildContext) block {
-	return &sensorBlock{io: c.io(b), channel: c.channel(b)}
+	return &sensorBlock{ports: c.ports(), channel: c.channel(b)}
 }
 
 func (s *sensorBlock) reset(g *Graph) { g.vals[s.out] = 0 }
@@ -82,17 +82,17 @@ func (s *sensorBlock) tick(g *Graph) {
 }
 
 func parseConstant(r *reader) {
-	r.number("value", num{q: qSignal, required: true, min: -inf, max: inf})
+	r.number("value", num{m: mSignal, required: true, min: -inf, max: inf})
 	r.outputs("out")
 }
 
 type constantBlock struct {
-	io
+	ports
 	value float64
 }
 
 func buildConstant(b *BlockSpec, c *buildContext) block {
-	k := &constantBlock{io: c.io(b)}
+	k := &constantBlock{ports: c.ports()}
 	c.bind(b, "value", &k.value)
 	return k
 }
@@ -102,26 +102,26 @@ func (k *constantBlock) tick(g *Graph)  { g.vals[k.out] = k.value }
 
 func parseTime(r *reader) { r.outputs("out") }
 
-type timeBlock struct{ io }
+type timeBlock struct{ ports }
 
-func buildTime(b *BlockSpec, c *buildContext) block { return &timeBlock{c.io(b)} }
+func buildTime(b *BlockSpec, c *buildContext) block { return &timeBlock{c.ports()} }
 func (k *timeBlock) reset(g *Graph)                 { g.vals[k.out] = 0 }
 func (k *timeBlock) tick(g *Graph)                  { g.vals[k.out] = g.now }
 
 func parseStep(r *reader) {
-	r.number("time", num{q: qDuration, min: 0, max: inf})
-	r.number("before", num{q: qSignal, min: -inf, max: inf})
-	r.number("after", num{q: qSignal, def: 1, min: -inf, max: inf})
+	r.number("time", num{m: mDuration, min: 0, max: inf})
+	r.number("before", num{m: mSignal, min: -inf, max: inf})
+	r.number("after", num{m: mSignal, def: 1, min: -inf, max: inf})
 	r.outputs("out")
 }
 
 type stepBlock struct {
-	io
+	ports
 	at, before, after float64
 }
 
 func buildStep(b *BlockSpec, c *buildContext) block {
-	k := &stepBlock{io: c.io(b)}
+	k := &stepBlock{ports: c.ports()}
 	c.bind(b, "time", &k.at)
 	c.bind(b, "before", &k.before)
 	c.bind(b, "after", &k.after)
@@ -138,19 +138,19 @@ func (k *stepBlock) tick(g *Graph) {
 }
 
 func parseRamp(r *reader) {
-	r.number("start", num{q: qDuration, min: 0, max: inf})
-	r.number("slope", num{q: qSlope, def: 1, min: -inf, max: inf})
-	r.number("offset", num{q: qSignal, min: -inf, max: inf})
+	r.number("start", num{m: mDuration, min: 0, max: inf})
+	r.number("slope", num{m: mSlope, def: 1, min: -inf, max: inf})
+	r.number("offset", num{m: mSignal, min: -inf, max: inf})
 	r.outputs("out")
 }
 
 type rampBlock struct {
-	io
+	ports
 	start, slope, offset float64
 }
 
 func buildRamp(b *BlockSpec, c *buildContext) block {
-	k := &rampBlock{io: c.io(b)}
+	k := &rampBlock{ports: c.ports()}
 	c.bind(b, "start", &k.start)
 	c.bind(b, "slope", &k.slope)
 	c.bind(b, "offset", &k.offset)
@@ -163,20 +163,20 @@ func (k *rampBlock) tick(g *Graph) {
 }
 
 func parseSine(r *reader) {
-	r.number("amplitude", num{q: qSignal, def: 1, min: -inf, max: inf})
-	r.number("frequency", num{q: qFreq, required: true, min: 0, max: inf})
-	r.number("phase", num{q: qAngle, min: -inf, max: inf})
-	r.number("offset", num{q: qSignal, min: -inf, max: inf})
+	r.number("amplitude", num{m: mSignal, def: 1, min: -inf, max: inf})
+	r.number("frequency", num{m: mFreq, required: true, min: 0, max: inf})
+	r.number("phase", num{m: mAngle, min: -inf, max: inf})
+	r.number("offset", num{m: mSignal, min: -inf, max: inf})
 	r.outputs("out")
 }
 
 type sineBlock struct {
-	io
+	ports
 	amplitude, frequency, phase, offset float64
 }
 
 func buildSine(b *BlockSpec, c *buildContext) block {
-	k := &sineBlock{io: c.io(b)}
+	k := &sineBlock{ports: c.ports()}
 	c.bind(b, "amplitude", &k.amplitude)
 	c.bind(b, "frequency", &k.frequency)
 	c.bind(b, "phase", &k.phase)
@@ -190,20 +190,20 @@ func (k *sineBlock) tick(g *Graph) {
 }
 
 func parseSquare(r *reader) {
-	r.number("amplitude", num{q: qSignal, def: 1, min: -inf, max: inf})
-	r.number("frequency", num{q: qFreq, required: true, min: 0, max: inf})
-	r.number("duty", num{q: qNumber, def: 0.5, min: 0, max: 1})
-	r.number("offset", num{q: qSignal, min: -inf, max: inf})
+	r.number("amplitude", num{m: mSignal, def: 1, min: -inf, max: inf})
+	r.number("frequency", num{m: mFreq, required: true, min: 0, max: inf})
+	r.number("duty", num{m: mNumber, def: 0.5, min: 0, max: 1})
+	r.number("offset", num{m: mSignal, min: -inf, max: inf})
 	r.outputs("out")
 }
 
 type squareBlock struct {
-	io
+	ports
 	amplitude, frequency, duty, offset float64
 }
 
 func buildSquare(b *BlockSpec, c *buildContext) block {
-	k := &squareBlock{io: c.io(b)}
+	k := &squareBlock{ports: c.ports()}
 	c.bind(b, "amplitude", &k.amplitude)
 	c.bind(b, "frequency", &k.frequency)
 	c.bind(b, "duty", &k.duty)
@@ -230,18 +230,18 @@ func (k *squareBlock) tick(g *Graph) {
 // --- arithmetic ---
 
 func parseGain(r *reader) {
-	r.number("k", num{q: qNumber, required: true, min: -inf, max: inf})
+	r.number("k", num{m: mNumber, required: true, min: -inf, max: inf})
 	r.inputs("in")
 	r.outputs("out")
 }
 
 type gainBlock struct {
-	io
+	ports
 	k float64
 }
 
 func buildGain(b *BlockSpec, c *buildContext) block {
-	k := &gainBlock{io: c.io(b)}
+	k := &gainBlock{ports: c.ports()}
 	c.bind(b, "k", &k.k)
 	return k
 }
@@ -265,12 +265,12 @@ func parseSum(r *reader) {
 }
 
 type sumBlock struct {
-	io
+	ports
 	signs []float64
 }
 
 func buildSum(b *BlockSpec, c *buildContext) block {
-	k := &sumBlock{io: c.io(b)}
+	k := &sumBlock{ports: c.ports()}
 	for _, s := range b.Options["signs"] {
 		if s == '-' {
 			k.signs = append(k.signs, -1)
@@ -309,7 +309,7 @@ func parseSplit(r *reader) {
 			r.add(of.KeyPos, "outputs."+of.Key, "output name %q is not %s", of.Key, nameRule)
 			continue
 		}
-		k, _, err := parseNumber(&of.Value, qNumber)
+		k, _, err := parseNumber(&of.Value, mNumber)
 		if err != nil {
 			r.add(of.Value.Pos, "outputs."+of.Key, "%v", err)
 			continue
@@ -323,12 +323,12 @@ func parseSplit(r *reader) {
 }
 
 type splitBlock struct {
-	io
+	ports
 	gains []float64
 }
 
 func buildSplit(b *BlockSpec, c *buildContext) block {
-	k := &splitBlock{io: c.io(b), gains: make([]float64, len(b.Outputs))}
+	k := &splitBlock{ports: c.ports(), gains: make([]float64, len(b.Outputs))}
 	for i, o := range b.Outputs {
 		c.bind(b, o, &k.gains[i])
 	}
@@ -351,18 +351,18 @@ func (k *splitBlock) tick(g *Graph) {
 // --- shaping ---
 
 func parseLimit(r *reader) {
-	r.limits("limits", qSignal, true)
+	r.limits("limits", mSignal, true)
 	r.inputs("in")
 	r.outputs("out")
 }
 
 type limitBlock struct {
-	io
+	ports
 	lo, hi float64
 }
 
 func buildLimit(b *BlockSpec, c *buildContext) block {
-	k := &limitBlock{io: c.io(b)}
+	k := &limitBlock{ports: c.ports()}
 	c.bind(b, "min", &k.lo)
 	c.bind(b, "max", &k.hi)
 	return k
@@ -382,7 +382,7 @@ func clamp(x, lo, hi float64) float64 {
 }
 
 func parseRateLimit(r *reader) {
-	r.number("rate", num{q: qSlope, required: true, min: 0, max: inf})
+	r.number("rate", num{m: mSlope, required: true, min: 0, max: inf})
 	r.inputs("in")
 	r.outputs("out")
 }
@@ -390,13 +390,13 @@ func parseRateLimit(r *reader) {
 // rateLimitBlock follows its input, moving at most rate per second. It
 // starts at its first input.
 type rateLimitBlock struct {
-	io
+	ports
 	rate    float64
 	started bool
 }
 
 func buildRateLimit(b *BlockSpec, c *buildContext) block {
-	k := &rateLimitBlock{io: c.io(b)}
+	k := &rateLimitBlock{ports: c.ports()}
 	c.bind(b, "rate", &k.rate)
 	return k
 }
@@ -414,7 +414,7 @@ func (k *rateLimitBlock) tick(g *Graph) {
 }
 
 func parseLowpass(r *reader) {
-	r.number("tau", num{q: qDuration, required: true, min: 0, max: inf})
+	r.number("tau", num{m: mDuration, required: true, min: 0, max: inf})
 	r.inputs("in")
 	r.outputs("out")
 }
@@ -425,13 +425,13 @@ func parseLowpass(r *reader) {
 // input so that a signal that does not start at zero does not show a
 // start-up transient.
 type lowpassBlock struct {
-	io
+	ports
 	tau     float64
 	started bool
 }
 
 func buildLowpass(b *BlockSpec, c *buildContext) block {
-	k := &lowpassBlock{io: c.io(b)}
+	k := &lowpassBlock{ports: c.ports()}
 	c.bind(b, "tau", &k.tau)
 	return k
 }
@@ -448,7 +448,7 @@ func (k *lowpassBlock) tick(g *Graph) {
 }
 
 func parseDeadband(r *reader) {
-	r.number("band", num{q: qSignal, required: true, min: 0, max: inf})
+	r.number("band", num{m: mSignal, required: true, min: 0, max: inf})
 	r.inputs("in")
 	r.outputs("out")
 }
@@ -456,12 +456,12 @@ func parseDeadband(r *reader) {
 // deadbandBlock gives zero within +-band and the input less band outside,
 // so that its output is continuous.
 type deadbandBlock struct {
-	io
+	ports
 	band float64
 }
 
 func buildDeadband(b *BlockSpec, c *buildContext) block {
-	k := &deadbandBlock{io: c.io(b)}
+	k := &deadbandBlock{ports: c.ports()}
 	c.bind(b, "band", &k.band)
 	return k
 }
@@ -480,7 +480,7 @@ func (k *deadbandBlock) tick(g *Graph) {
 }
 
 func parseTiltFilter(r *reader) {
-	r.number("tau", num{q: qDuration, required: true, min: 0, max: inf})
+	r.number("tau", num{m: mDuration, required: true, min: 0, max: inf})
 	r.inputs("rate", "angle")
 	r.outputs("out")
 }
@@ -493,13 +493,13 @@ func parseTiltFilter(r *reader) {
 //
 // It starts at the first accelerometer angle.
 type tiltFilterBlock struct {
-	io
+	ports
 	tau     float64
 	started bool
 }
 
 func buildTiltFilter(b *BlockSpec, c *buildContext) block {
-	k := &tiltFilterBlock{io: c.io(b)}
+	k := &tiltFilterBlock{ports: c.ports()}
 	c.bind(b, "tau", &k.tau)
 	return k
 }
@@ -516,7 +516,7 @@ func (k *tiltFilterBlock) tick(g *Graph) {
 }
 
 func parseDelay(r *reader) {
-	r.number("initial", num{q: qSignal, min: -inf, max: inf})
+	r.number("initial", num{m: mSignal, min: -inf, max: inf})
 	r.inputs("in")
 	r.outputs("out")
 }
@@ -524,12 +524,12 @@ func parseDelay(r *reader) {
 // delayBlock outputs its input of the previous tick. Its output is known
 // before the tick starts, which is what lets a loop through it be ordered.
 type delayBlock struct {
-	io
+	ports
 	initial float64
 }
 
 func buildDelay(b *BlockSpec, c *buildContext) block {
-	k := &delayBlock{io: c.io(b)}
+	k := &delayBlock{ports: c.ports()}
 	c.bind(b, "initial", &k.initial)
 	return k
 }
@@ -541,13 +541,13 @@ func (k *delayBlock) tick(g *Graph)  {}
 func (k *delayBlock) latch(g *Graph) { g.vals[k.out] = k.input(g, 0) }
 
 func parseSelect(r *reader) {
-	r.number("count", num{q: qNumber, required: true, fixed: true, min: 1, max: 64})
+	r.number("count", num{m: mNumber, required: true, fixed: true, min: 1, max: 64})
 	n := int(r.b.value("count"))
 	if float64(n) != r.b.value("count") {
 		r.add(r.pos, "count", "count is a whole number of inputs")
 		n = 0
 	}
-	r.number("index", num{q: qNumber, def: 1, min: 1, max: math.Max(1, float64(n))})
+	r.number("index", num{m: mNumber, def: 1, min: 1, max: math.Max(1, float64(n))})
 	for i := 1; i <= n; i++ {
 		r.inputs(fmt.Sprintf("in%d", i))
 	}
@@ -559,12 +559,12 @@ func parseSelect(r *reader) {
 // from the index input when it is wired, else from the index parameter; it
 // is rounded to the nearest input and clamped to the inputs there are.
 type selectBlock struct {
-	io
+	ports
 	index float64
 }
 
 func buildSelect(b *BlockSpec, c *buildContext) block {
-	k := &selectBlock{io: c.io(b)}
+	k := &selectBlock{ports: c.ports()}
 	c.bind(b, "index", &k.index)
 	return k
 }
@@ -589,12 +589,12 @@ func parseActuator(r *reader) {
 // actuatorBlock sends its input, clamped to [-1, 1], to an actuator. Its
 // output is the command sent, for traces.
 type actuatorBlock struct {
-	io
+	ports
 	actuator int
 }
 
 func buildActuator(b *BlockSpec, c *buildContext) block {
-	return &actuatorBlock{io: c.io(b), actuator: c.actuator(b)}
+	return &actuatorBlock{ports: c.ports(), actuator: c.actuator(b)}
 }
 
 func (k *actuatorBlock) reset(g *Graph) { g.vals[k.out] = 0 }

@@ -3,10 +3,10 @@ package control
 import "math"
 
 func parsePID(r *reader) {
-	r.number("kp", num{q: qNumber, min: 0, max: inf})
-	r.number("ki", num{q: qPerTime, min: 0, max: inf})
-	r.number("kd", num{q: qTimeGain, min: 0, max: inf})
-	r.number("b", num{q: qNumber, def: 1, min: 0, max: 1})
+	r.number("kp", num{m: mNumber, min: 0, max: inf})
+	r.number("ki", num{m: mPerTime, min: 0, max: inf})
+	r.number("kd", num{m: mTimeGain, min: 0, max: inf})
+	r.number("b", num{m: mNumber, def: 1, min: 0, max: 1})
 	_, hasTf := r.v.Get("tf")
 	_, hasN := r.v.Get("n")
 	if hasTf && hasN {
@@ -14,14 +14,14 @@ func parsePID(r *reader) {
 		r.field("tf")
 	}
 	if hasN {
-		r.number("n", num{q: qNumber, def: 10, min: 1, max: 1000})
+		r.number("n", num{m: mNumber, def: 10, min: 1, max: 1000})
 		r.b.Options["filter"] = "n"
 	} else {
-		r.number("tf", num{q: qDuration, min: 0, max: inf})
+		r.number("tf", num{m: mDuration, min: 0, max: inf})
 	}
-	if r.limits("limits", qSignal, false) {
+	if r.limits("limits", mSignal, false) {
 		r.text("anti_windup", "conditional", false, "conditional", "back_calculation", "none")
-		r.number("tt", num{q: qDuration, min: 0, max: inf})
+		r.number("tt", num{m: mDuration, min: 0, max: inf})
 	}
 	r.inputs("setpoint", "measurement")
 	r.outputs("out", "p", "i", "d")
@@ -44,7 +44,7 @@ const (
 // kp or b moves I by the difference of the proportional terms so that u is
 // continuous. D uses the backward difference, stable for any Tf >= 0.
 type pidBlock struct {
-	io
+	ports
 	kp, ki, kd, b float64
 	tf, n         float64
 	useN          bool
@@ -61,7 +61,7 @@ type pidBlock struct {
 }
 
 func buildPID(b *BlockSpec, c *buildContext) block {
-	p := &pidBlock{io: c.io(b)}
+	p := &pidBlock{ports: c.ports()}
 	c.bind(b, "kp", &p.kp)
 	c.bind(b, "ki", &p.ki)
 	c.bind(b, "kd", &p.kd)

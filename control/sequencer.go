@@ -122,7 +122,7 @@ func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bo
 					r.add(of.KeyPos, where+".set."+of.Key, "%q is not an output of this sequencer (outputs: %s)", of.Key, strings.Join(r.b.Outputs[:len(r.b.Outputs)-1], ", "))
 					continue
 				}
-				x, unit, err := parseNumber(&of.Value, qSignal)
+				x, unit, err := parseNumber(&of.Value, mSignal)
 				if err != nil {
 					r.add(of.Value.Pos, where+".set."+of.Key, "%v", err)
 					continue
@@ -131,7 +131,7 @@ func parseState(r *reader, seq *Sequence, v *models.Value, index int) (State, bo
 				r.b.Params = append(r.b.Params, Param{Name: st.Name + "." + of.Key, Value: x, Unit: unit, Tunable: true, Min: -inf, Max: inf, Pos: of.Value.Pos})
 			}
 		case "ramp":
-			x, _, err := parseNumber(&f.Value, qDuration)
+			x, _, err := parseNumber(&f.Value, mDuration)
 			if err != nil || x < 0 {
 				r.add(f.Value.Pos, where+".ramp", "ramp is a time of 0 s or more")
 				continue
@@ -180,7 +180,7 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 			t.On = text
 		case "after":
 			conditions++
-			x, _, err := parseNumber(&f.Value, qDuration)
+			x, _, err := parseNumber(&f.Value, mDuration)
 			if err != nil || x < 0 {
 				r.add(f.Value.Pos, where+".after", "after is a time of 0 s or more")
 				return t, false
@@ -217,7 +217,7 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 		return t, false
 	}
 	if threshold != nil {
-		x, unit, err := parseNumber(&threshold.Value, qSignal)
+		x, unit, err := parseNumber(&threshold.Value, mSignal)
 		if err != nil {
 			r.add(threshold.Value.Pos, where+"."+threshold.Key, "%v", err)
 			return t, false
@@ -236,7 +236,7 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 // until a state with a transition on it consumes it, so a stop can wait for
 // a safe phase.
 type sequencerBlock struct {
-	io
+	ports
 	name    string
 	nOut    int
 	nSignal int
@@ -268,7 +268,7 @@ type seqTransition struct {
 
 func buildSequencer(b *BlockSpec, c *buildContext) block {
 	seq := b.Sequence
-	s := &sequencerBlock{io: c.io(b), name: b.Name, nOut: len(b.Outputs) - 1, nSignal: len(seq.Signals), events: seq.Events}
+	s := &sequencerBlock{ports: c.ports(), name: b.Name, nOut: len(b.Outputs) - 1, nSignal: len(seq.Signals), events: seq.Events}
 	s.from = make([]float64, s.nOut)
 	s.latched = make([]bool, len(seq.Events))
 	stateIndex := func(name string) int {

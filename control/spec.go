@@ -310,47 +310,49 @@ func (r *reader) add(pos models.Pos, key, format string, args ...any) {
 	r.ps.Add(pos, p, format, args...)
 }
 
-// quantity says what a numeric parameter measures and which units it takes.
-type quantity struct {
+// measure says what a numeric parameter measures: the kinds of quantity its
+// text may give and the unit it is labelled with.
+type measure struct {
 	kinds []models.Kind // accepted kinds; a bare number is SI of the first
 	unit  string        // label when not taken from the kind, e.g. "1/s"
 }
 
+// The measures of the parameters, each named m and what it measures.
 var (
-	// qNumber is a plain number: a gain, a weight, a fraction.
-	qNumber = quantity{kinds: []models.Kind{models.Dimensionless}}
-	// qSignal is a value a signal takes: an angle, a length, a PWM fraction.
-	qSignal = quantity{kinds: []models.Kind{models.Dimensionless, models.Angle, models.Length, models.Force,
+	// mNumber is a plain number: a gain, a weight, a fraction.
+	mNumber = measure{kinds: []models.Kind{models.Dimensionless}}
+	// mSignal is a value a signal takes: an angle, a length, a PWM fraction.
+	mSignal = measure{kinds: []models.Kind{models.Dimensionless, models.Angle, models.Length, models.Force,
 		models.AngularSpeed, models.Speed}}
-	// qSlope is how fast a signal may change, per second.
-	qSlope    = quantity{kinds: []models.Kind{models.Frequency, models.AngularSpeed, models.Speed}}
-	qDuration = quantity{kinds: []models.Kind{models.Duration}}
-	qFreq     = quantity{kinds: []models.Kind{models.Frequency}}
-	qAngle    = quantity{kinds: []models.Kind{models.Angle}}
-	qPerTime  = quantity{kinds: []models.Kind{models.Dimensionless}, unit: "1/s"}
-	qTimeGain = quantity{kinds: []models.Kind{models.Dimensionless}, unit: "s"}
+	// mSlope is how fast a signal may change, per second.
+	mSlope    = measure{kinds: []models.Kind{models.Frequency, models.AngularSpeed, models.Speed}}
+	mDuration = measure{kinds: []models.Kind{models.Duration}}
+	mFreq     = measure{kinds: []models.Kind{models.Frequency}}
+	mAngle    = measure{kinds: []models.Kind{models.Angle}}
+	mPerTime  = measure{kinds: []models.Kind{models.Dimensionless}, unit: "1/s"}
+	mTimeGain = measure{kinds: []models.Kind{models.Dimensionless}, unit: "s"}
 )
 
 // num describes a numeric parameter to read.
 type num struct {
-	q        quantity
+	m        measure
 	def      float64
 	required bool
 	fixed    bool // structural, not in gain sets
 	min, max float64
 }
 
-func parseNumber(val *models.Value, q quantity) (float64, string, error) {
+func parseNumber(val *models.Value, m measure) (float64, string, error) {
 	if val.Kind != models.Scalar {
 		return 0, "", fmt.Errorf("a number is wanted, not %s", val.Kind)
 	}
-	x, k, err := models.ParseQuantity(val.Text, q.kinds...)
+	x, k, err := models.ParseQuantity(val.Text, m.kinds...)
 	if err != nil {
 		return 0, "", err
 	}
 	unit := k.Unit
-	if q.unit != "" {
-		unit = q.unit
+	if m.unit != "" {
+		unit = m.unit
 	}
 	return x, unit, nil
 }
@@ -359,9 +361,9 @@ func parseNumber(val *models.Value, q quantity) (float64, string, error) {
 func (r *reader) number(key string, n num) {
 	f := r.field(key)
 	p := Param{Name: key, Value: n.def, Tunable: !n.fixed, Min: n.min, Max: n.max, Pos: r.pos}
-	p.Unit = n.q.unit
+	p.Unit = n.m.unit
 	if p.Unit == "" {
-		p.Unit = n.q.kinds[0].Unit
+		p.Unit = n.m.kinds[0].Unit
 	}
 	if f == nil {
 		if n.required {
@@ -371,7 +373,7 @@ func (r *reader) number(key string, n num) {
 		return
 	}
 	p.Pos = f.Value.Pos
-	x, unit, err := parseNumber(&f.Value, n.q)
+	x, unit, err := parseNumber(&f.Value, n.m)
 	if err != nil {
 		r.add(f.Value.Pos, key, "%v", err)
 	} else if x < n.min || x > n.max {
@@ -410,7 +412,7 @@ var inf = math.Inf(1)
 
 // limits reads "key: [lo, hi]" into parameters min and max. When the field
 // is missing the parameters are left out, and it reports false.
-func (r *reader) limits(key string, q quantity, required bool) bool {
+func (r *reader) limits(key string, m measure, required bool) bool {
 	f := r.field(key)
 	if f == nil {
 		if required {
@@ -418,7 +420,7 @@ func (r *reader) limits(key string, q quantity, required bool) bool {
 		}
 		return false
 	}
-	pmin := Param{Name: "min", Unit: q.kinds[0].Unit, Tunable: true, Min: -inf, Max: inf, Pos: r.pos}
+	pmin := Param{Name: "min", Unit: m.kinds[0].Unit, Tunable: true, Min: -inf, Max: inf, Pos: r.pos}
 	pmax := pmin
 	pmax.Name = "max"
 	pmin.AtMost = "max"
@@ -427,8 +429,8 @@ func (r *reader) limits(key string, q quantity, required bool) bool {
 		if f.Value.Kind != models.List || len(f.Value.Items) != 2 {
 			r.add(f.Value.Pos, key, "%s is a list of two values [low, high]", key)
 		} else {
-			a, ua, errA := parseNumber(&f.Value.Items[0], q)
-			b, ub, errB := parseNumber(&f.Value.Items[1], q)
+			a, ua, errA := parseNumber(&f.Value.Items[0], m)
+			b, ub, errB := parseNumber(&f.Value.Items[1], m)
 			switch {
 			case errA != nil:
 				r.add(f.Value.Items[0].Pos, key+"[0]", "%v", errA)
@@ -478,7 +480,8 @@ func (r *reader) text(key, def string, required bool, choices ...string) string 
 	return s
 }
 
-// names reads a list of names (outputs, events).
+// nameList reads a list of names (outputs, signals, events), each valid and
+// listed once, with where each was written.
 func (r *reader) nameList(key string, required bool) ([]string, []models.Pos) {
 	f := r.field(key)
 	if f == nil {

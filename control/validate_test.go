@@ -44,6 +44,12 @@ blocks:
   - {name: b, kind: gain, k: 1, input: a}
   - {name: c, kind: gain, k: 1, input: b}`,
 			`c.yaml:3:5: controller.blocks.a: loop without a delay: a -> b -> c -> a`},
+		{"loop with a branch: the path takes the lower block first", `rate: 100 Hz
+blocks:
+  - {name: a, kind: sum, input: [c, b]}
+  - {name: b, kind: gain, k: 1, input: a}
+  - {name: c, kind: gain, k: 1, input: a}`,
+			`c.yaml:3:5: controller.blocks.a: loop without a delay: a -> b -> a`},
 		{"self loop", `rate: 100 Hz
 blocks:
   - {name: acc, kind: sum, input: [1, acc]}`,
