@@ -194,28 +194,12 @@ func parseRate(f *models.Field, ps *models.Problems) float64 {
 
 func blockPath(name string) string { return sectionPath + ".blocks." + name }
 
-// validName reports whether s can name a block, an output, a state or an
-// event: a letter or underscore, then letters, digits, '_' or '-'. Dots are
-// kept out because they separate block from output and block from parameter.
-func validName(s string) bool {
-	if s == "" {
-		return false
-	}
-	for i, c := range s {
-		switch {
-		case c >= 'a' && c <= 'z', c >= 'A' && c <= 'Z', c == '_':
-		case (c >= '0' && c <= '9') || c == '-':
-			if i == 0 {
-				return false
-			}
-		default:
-			return false
-		}
-	}
-	return true
-}
+// Blocks, outputs, states and events are named by the robot's rule: no dots,
+// which separate block from output and block from parameter, and no leading
+// digit or '-', which would make a source read as a number.
+var validName = models.ValidName
 
-const nameRule = "a letter or '_' followed by letters, digits, '_' or '-'"
+const nameRule = models.NameRule
 
 func parseBlock(v *models.Value, index int, ps *models.Problems) *BlockSpec {
 	itemPath := fmt.Sprintf("%s.blocks[%d]", sectionPath, index)

@@ -1,8 +1,9 @@
 package models
 
-// The naming rule for sensor channels and actuator commands: the order of
-// the readings a controller gets and of the commands it writes. The plant,
-// the controller graph and the window all follow it.
+// The naming rules: which names a robot's and a controller's parts may take,
+// and the names and order of the sensor channels a controller reads and of
+// the actuator commands it writes. The plant, the controller graph and the
+// window all follow them.
 
 // Channels lists the sensor channel names of a robot, in the order of the
 // readings the controller gets: for each sensor in file order, its
@@ -31,4 +32,31 @@ func ActuatorNames(r *Robot) []string {
 		out[i] = a.Name
 	}
 	return out
+}
+
+// NameRule says in words which names ValidName accepts, for problem texts.
+const NameRule = "a letter or '_' followed by letters, digits, '_' or '-'"
+
+// ValidName reports whether s can name a part of a robot (a link, joint,
+// actuator, sensor, foot, pad or the ballast) or of a controller (a block,
+// an output, a state or an event). Dots are kept out because they join a
+// name to what follows in a channel (torso_imu.tilt) or a parameter path
+// (links.torso.mass); a name cannot start with a digit or '-' so that it is
+// never read as a number where a number could stand instead.
+func ValidName(s string) bool {
+	if s == "" {
+		return false
+	}
+	for i, c := range s {
+		switch {
+		case c >= 'a' && c <= 'z', c >= 'A' && c <= 'Z', c == '_':
+		case (c >= '0' && c <= '9') || c == '-':
+			if i == 0 {
+				return false
+			}
+		default:
+			return false
+		}
+	}
+	return true
 }

@@ -370,24 +370,12 @@ func checkName(w *walker, name string, pos Pos, path string) bool {
 	switch {
 	case name == "":
 		w.add(pos, path, "the name is empty")
-	case !validName(name):
-		w.add(pos, path, "name %q may hold only letters, digits, _ and - (at most 64)", name)
+	case !ValidName(name):
+		w.add(pos, path, "name %q is not %s", name, NameRule)
 	default:
 		return true
 	}
 	return false
-}
-
-func validName(s string) bool {
-	if s == "" || len(s) > 64 {
-		return false
-	}
-	for _, r := range s {
-		if !(r == '_' || r == '-' || r >= '0' && r <= '9' || r >= 'a' && r <= 'z' || r >= 'A' && r <= 'Z') {
-			return false
-		}
-	}
-	return true
 }
 
 // closest returns the candidate nearest to s by edit distance when it is
