@@ -1,6 +1,7 @@
-// Package models describes a planar robot: the robot file, its schema, the
-// units people write quantities in, validation with positioned problems, and
-// the built-in robots embedded in the binary.
+// Package models is the one description of a planar robot that the plant,
+// the controller graph and the window share: the robot file, its schema, the
+// units people write quantities in, validation with positioned problems, the
+// naming rules, and the built-in robots embedded in the binary.
 //
 // A robot file is YAML (see SCHEMA.md beside this file for every field):
 // top-level name, plane (frontal or sagittal) and root, then lists of links
@@ -17,7 +18,10 @@
 // column and a field path such as links.torso.mass. Save writes a model back
 // in bare SI numbers that read back exactly. GetParam and SetParam address
 // single numbers for sweeps; InitialPoses places the links in the starting
-// configuration with the feet on the ground.
+// configuration with the feet on the ground. ValidName is the rule every
+// name of a robot part (and of a controller block) follows; Channels and
+// ActuatorNames give the names and order of the readings a controller gets
+// and of the commands it writes.
 //
 // Everything in a loaded model is in SI units and radians. Friendly units
 // (mm, deg, mAh, ...) exist only in the files and at the edges of the program.
