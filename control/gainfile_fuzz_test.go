@@ -13,10 +13,43 @@ import (
 // nothing panics on any input). A set it accepts is applied to the built-in
 // frontal controller, which must either refuse it or take it, and, when it
 // names a rate, must read back unchanged from both of the forms teeter
-// writes. The seeds are the gain sets of every built-in controller in JSON
-// and YAML and every gain file under testdata/.
+// writes.
 func FuzzParseGains(f *testing.F) {
-	robots := map[string][2][]string{}
+	addGainSeeds(f)
+	frontal, err := Builtin("frontal")
+	if err != nil {
+		f.Fatal(err)
+	}
+	channels, actuators := frontalNames()
+	f.Fuzz(func(t *testing.T, data []byte) {
+		gs, err := ParseGains("fuzz.yaml", data)
+		if err != nil {
+			return
+		}
+		g, err := Build(frontal, channels, actuators)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := g.Apply(gs); err == nil {
+			// Apply checked every value; a tick must take them.
+			g.Tick(0, make([]float64, len(channels)), make([]float64, len(actuators)))
+		}
+		if gs.Rate <= 0 {
+			return // written back as "0 Hz", which the reader refuses
+		}
+		for _, e := range gs.Gains {
+			if !utf8.ValidString(e.Path) {
+				return // JSON writes invalid UTF-8 as U+FFFD
+			}
+		}
+		checkGainsReadBack(t, gs)
+	})
+}
+
+// addGainSeeds seeds the fuzzer with the gain sets of every built-in
+// controller in JSON and YAML, every gain file under testdata/ and a few
+// edge cases.
+func addGainSeeds(f *testing.F) {
 	for _, name := range BuiltinNames() {
 		spec, err := Builtin(name)
 		if err != nil {
@@ -31,7 +64,6 @@ func FuzzParseGains(f *testing.F) {
 				continue
 			}
 		}
-		robots[name] = [2][]string{models.Channels(robot), models.ActuatorNames(robot)}
 		g, err := Build(spec, models.Channels(robot), models.ActuatorNames(robot))
 		if err != nil {
 			continue
@@ -56,48 +88,27 @@ func FuzzParseGains(f *testing.F) {
 	} {
 		f.Add([]byte(s))
 	}
-	frontal, err := Builtin("frontal")
-	if err != nil {
-		f.Fatal(err)
+}
+
+// checkGainsReadBack writes gs in JSON and in YAML and checks that each
+// reads back to the same rate, paths and values.
+func checkGainsReadBack(t *testing.T, gs GainSet) {
+	t.Helper()
+	for _, form := range []struct {
+		name string
+		data []byte
+	}{{"json", MarshalGainsJSON(gs)}, {"yaml", MarshalGainsYAML(gs)}} {
+		back, err := ParseGains("back."+form.name, form.data)
+		if err != nil {
+			t.Fatalf("%s form does not read back: %v\n%s", form.name, err, form.data)
+		}
+		if back.Rate != gs.Rate || len(back.Gains) != len(gs.Gains) {
+			t.Fatalf("%s form: rate %v with %d gains, want %v with %d", form.name, back.Rate, len(back.Gains), gs.Rate, len(gs.Gains))
+		}
+		for i, e := range gs.Gains {
+			if back.Gains[i].Path != e.Path || back.Gains[i].Value != e.Value {
+				t.Fatalf("%s form: gain %q = %v came back as %q = %v", form.name, e.Path, e.Value, back.Gains[i].Path, back.Gains[i].Value)
+			}
+		}
 	}
-	names := robots["frontal"]
-	f.Fuzz(func(t *testing.T, data []byte) {
-		gs, err := ParseGains("fuzz.yaml", data)
-		if err != nil {
-			return
-		}
-		g, err := Build(frontal, names[0], names[1])
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := g.Apply(gs); err == nil {
-			// Apply checked every value; a tick must take them.
-			g.Tick(0, make([]float64, len(names[0])), make([]float64, len(names[1])))
-		}
-		if gs.Rate <= 0 {
-			return // written back as "0 Hz", which the reader refuses
-		}
-		for _, e := range gs.Gains {
-			if !utf8.ValidString(e.Path) {
-				return // JSON writes invalid UTF-8 as U+FFFD
-			}
-		}
-		for _, form := range []struct {
-			name string
-			data []byte
-		}{{"json", MarshalGainsJSON(gs)}, {"yaml", MarshalGainsYAML(gs)}} {
-			back, err := ParseGains("back."+form.name, form.data)
-			if err != nil {
-				t.Fatalf("%s form does not read back: %v\n%s", form.name, err, form.data)
-			}
-			if back.Rate != gs.Rate || len(back.Gains) != len(gs.Gains) {
-				t.Fatalf("%s form: rate %v with %d gains, want %v with %d", form.name, back.Rate, len(back.Gains), gs.Rate, len(gs.Gains))
-			}
-			for i, e := range gs.Gains {
-				if back.Gains[i].Path != e.Path || back.Gains[i].Value != e.Value {
-					t.Fatalf("%s form: gain %q = %v came back as %q = %v", form.name, e.Path, e.Value, back.Gains[i].Path, back.Gains[i].Value)
-				}
-			}
-		}
-	})
 }

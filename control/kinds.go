@@ -58,6 +58,14 @@ type ports struct {
 
 func (p *ports) input(g *Graph, i int) float64 { return g.vals[p.in[i]] }
 
+// unary declares the form of a block with one input in, one output out
+// and one number parameter.
+func (r *reader) unary(key string, n num) {
+	r.number(key, n)
+	r.inputs("in")
+	r.outputs("out")
+}
+
 // --- sources ---
 
 func parseSensor(r *reader) {
@@ -230,9 +238,7 @@ func (k *squareBlock) tick(g *Graph) {
 // --- arithmetic ---
 
 func parseGain(r *reader) {
-	r.number("k", num{m: mNumber, required: true, min: -inf, max: inf})
-	r.inputs("in")
-	r.outputs("out")
+	r.unary("k", num{m: mNumber, required: true, min: -inf, max: inf})
 }
 
 type gainBlock struct {
@@ -382,30 +388,45 @@ func clamp(x, lo, hi float64) float64 {
 }
 
 func parseRateLimit(r *reader) {
-	r.number("rate", num{m: mSlope, required: true, min: 0, max: inf})
-	r.inputs("in")
-	r.outputs("out")
+	r.unary("rate", num{m: mSlope, required: true, min: 0, max: inf})
+}
+
+// startsAtInput is the part of a filter that starts at its first input
+// after a reset rather than at 0, so that a signal that does not start at
+// zero does not show a start-up transient.
+type startsAtInput struct {
+	ports
+	started bool
+}
+
+func (k *startsAtInput) reset(g *Graph) { g.vals[k.out], k.started = 0, false }
+
+// start sets the output to x on the first tick after a reset and reports
+// whether it did.
+func (k *startsAtInput) start(g *Graph, x float64) bool {
+	if k.started {
+		return false
+	}
+	g.vals[k.out], k.started = x, true
+	return true
 }
 
 // rateLimitBlock follows its input, moving at most rate per second. It
 // starts at its first input.
 type rateLimitBlock struct {
-	ports
-	rate    float64
-	started bool
+	startsAtInput
+	rate float64
 }
 
 func buildRateLimit(b *BlockSpec, c *buildContext) block {
-	k := &rateLimitBlock{ports: c.ports()}
+	k := &rateLimitBlock{startsAtInput: startsAtInput{ports: c.ports()}}
 	c.bind(b, "rate", &k.rate)
 	return k
 }
 
-func (k *rateLimitBlock) reset(g *Graph) { g.vals[k.out], k.started = 0, false }
 func (k *rateLimitBlock) tick(g *Graph) {
 	x := k.input(g, 0)
-	if !k.started {
-		g.vals[k.out], k.started = x, true
+	if k.start(g, x) {
 		return
 	}
 	step := k.rate * g.h
@@ -414,33 +435,31 @@ func (k *rateLimitBlock) tick(g *Graph) {
 }
 
 func parseLowpass(r *reader) {
-	r.number("tau", num{m: mDuration, required: true, min: 0, max: inf})
-	r.inputs("in")
-	r.outputs("out")
+	r.unary("tau", num{m: mDuration, required: true, min: 0, max: inf})
 }
 
 // lowpassBlock is a first-order lag, discretised exactly for an input held
 // over a tick and applied at once: y[k] = a*y[k-1] + (1-a)*u[k] with
 // a = exp(-h/tau), so it adds no tick of delay. It starts at its first
-// input so that a signal that does not start at zero does not show a
-// start-up transient.
+// input.
 type lowpassBlock struct {
-	ports
-	tau     float64
-	started bool
+	startsAtInput
+	tau float64
 }
 
 func buildLowpass(b *BlockSpec, c *buildContext) block {
-	k := &lowpassBlock{ports: c.ports()}
+	k := &lowpassBlock{startsAtInput: startsAtInput{ports: c.ports()}}
 	c.bind(b, "tau", &k.tau)
 	return k
 }
 
-func (k *lowpassBlock) reset(g *Graph) { g.vals[k.out], k.started = 0, false }
 func (k *lowpassBlock) tick(g *Graph) {
 	x := k.input(g, 0)
-	if !k.started || k.tau <= 0 {
-		g.vals[k.out], k.started = x, true
+	if k.start(g, x) {
+		return
+	}
+	if k.tau <= 0 {
+		g.vals[k.out] = x
 		return
 	}
 	a := math.Exp(-g.h / k.tau)
@@ -448,9 +467,7 @@ func (k *lowpassBlock) tick(g *Graph) {
 }
 
 func parseDeadband(r *reader) {
-	r.number("band", num{m: mSignal, required: true, min: 0, max: inf})
-	r.inputs("in")
-	r.outputs("out")
+	r.unary("band", num{m: mSignal, required: true, min: 0, max: inf})
 }
 
 // deadbandBlock gives zero within +-band and the input less band outside,
@@ -493,22 +510,19 @@ func parseTiltFilter(r *reader) {
 //
 // It starts at the first accelerometer angle.
 type tiltFilterBlock struct {
-	ports
-	tau     float64
-	started bool
+	startsAtInput
+	tau float64
 }
 
 func buildTiltFilter(b *BlockSpec, c *buildContext) block {
-	k := &tiltFilterBlock{ports: c.ports()}
+	k := &tiltFilterBlock{startsAtInput: startsAtInput{ports: c.ports()}}
 	c.bind(b, "tau", &k.tau)
 	return k
 }
 
-func (k *tiltFilterBlock) reset(g *Graph) { g.vals[k.out], k.started = 0, false }
 func (k *tiltFilterBlock) tick(g *Graph) {
 	rate, angle := k.input(g, 0), k.input(g, 1)
-	if !k.started {
-		g.vals[k.out], k.started = angle, true
+	if k.start(g, angle) {
 		return
 	}
 	a := k.tau / (k.tau + g.h)
@@ -516,9 +530,7 @@ func (k *tiltFilterBlock) tick(g *Graph) {
 }
 
 func parseDelay(r *reader) {
-	r.number("initial", num{m: mSignal, min: -inf, max: inf})
-	r.inputs("in")
-	r.outputs("out")
+	r.unary("initial", num{m: mSignal, min: -inf, max: inf})
 }
 
 // delayBlock outputs its input of the previous tick. Its output is known

@@ -173,8 +173,7 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 			t.To = text
 		case "on":
 			conditions++
-			if !slices.Contains(seq.Events, text) {
-				r.add(f.Value.Pos, where+".on", "%q is not an event of this sequencer (events: %s)", text, strings.Join(seq.Events, ", "))
+			if !listed(r, f, where, "an event", "events", seq.Events) {
 				return t, false
 			}
 			t.On = text
@@ -189,8 +188,7 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 			r.b.Params = append(r.b.Params, Param{Name: prefix + "after", Value: x, Unit: "s", Tunable: true, Max: inf, Pos: f.Value.Pos})
 		case "when":
 			conditions++
-			if !slices.Contains(seq.Signals, text) {
-				r.add(f.Value.Pos, where+".when", "%q is not a signal of this sequencer (signals: %s)", text, strings.Join(seq.Signals, ", "))
+			if !listed(r, f, where, "a signal", "signals", seq.Signals) {
 				return t, false
 			}
 			t.When = text
@@ -226,6 +224,16 @@ func parseTransition(r *reader, seq *Sequence, st *State, v *models.Value, k int
 		r.b.Params = append(r.b.Params, Param{Name: prefix + threshold.Key, Value: x, Unit: unit, Tunable: true, Min: -inf, Max: inf, Pos: threshold.Value.Pos})
 	}
 	return t, true
+}
+
+// listed reports whether a transition's field names one of the sequencer's
+// events or signals (names), and says what it has when not.
+func listed(r *reader, f *models.Field, where, one, all string, names []string) bool {
+	if slices.Contains(names, f.Value.Text) {
+		return true
+	}
+	r.add(f.Value.Pos, where+"."+f.Key, "%q is not %s of this sequencer (%s: %s)", f.Value.Text, one, all, strings.Join(names, ", "))
+	return false
 }
 
 // sequencerBlock runs a Sequence. Each tick it first takes at most one

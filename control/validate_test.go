@@ -7,12 +7,32 @@ import (
 // The expected messages are this package's wording; the positions are
 // counted by hand from the snippets (line:column of the element the message
 // is about, columns from 1 as YAML editors show them).
-func TestValidationMessages(t *testing.T) {
+type messageCase struct{ name, text, want string }
+
+// checkMessages parses and builds each case for a robot with a torso IMU and
+// a hip and an ankle actuator, and compares the problems with want.
+func checkMessages(t *testing.T, cases []messageCase) {
+	t.Helper()
 	channels := []string{"torso_imu.tilt", "torso_imu.rate", "torso_imu.accel_tilt"}
 	actuators := []string{"hip", "ankle"}
-	cases := []struct {
-		name, text, want string
-	}{
+	for _, c := range cases {
+		spec, err := ParseBytes("c.yaml", []byte(c.text))
+		if err == nil {
+			_, err = Build(spec, channels, actuators)
+		}
+		if err == nil {
+			t.Errorf("%s: no error", c.name)
+			continue
+		}
+		if err.Error() != c.want {
+			t.Errorf("%s:\n got: %s\nwant: %s", c.name, err, c.want)
+		}
+	}
+}
+
+// TestBlockMessages checks the problems of each block and of the rate, found on their own.
+func TestBlockMessages(t *testing.T) {
+	checkMessages(t, []messageCase{
 		{"unknown kind", `rate: 100 Hz
 blocks:
   - {name: a, kind: wobble}`,
@@ -38,6 +58,26 @@ blocks:
   - {name: a, kind: constant, value: 1}
   - {name: a, kind: constant, value: 2}`,
 			`c.yaml:4:5: controller.blocks.a: duplicate block name "a" (first used at line 3)`},
+		{"several problems at once", `rate: 100 Hz
+blocks:
+  - {name: a, kind: constant, value: 1, kp: 3}
+  - {name: b, kind: pid, kp: 1 deg, input: {setpoint: a.outt, measurement: zz}}`,
+			`c.yaml:3:41: controller.blocks.a.kp: unknown parameter "kp" for a constant block (it has name, kind, value)
+c.yaml:4:30: controller.blocks.b.kp: "1 deg" is an angle, but a number is wanted
+c.yaml:4:55: controller.blocks.b.input.setpoint: "a.outt": constant block a has no output "outt" (outputs: out)
+c.yaml:4:76: controller.blocks.b.input.measurement: "zz": no block named "zz"`},
+		{"missing rate", `blocks:
+  - {name: a, kind: constant, value: 1}`,
+			`c.yaml:1:1: controller.rate: missing: the rate the controller ticks at, e.g. 200 Hz`},
+		{"bad rate unit", `rate: 100 mm
+blocks: []`,
+			`c.yaml:1:7: controller.rate: "100 mm" is a length, but a frequency is wanted`},
+	})
+}
+
+// TestLoopMessages checks that a loop without a delay is named by one path through it.
+func TestLoopMessages(t *testing.T) {
+	checkMessages(t, []messageCase{
 		{"algebraic loop", `rate: 100 Hz
 blocks:
   - {name: a, kind: gain, k: 1, input: c}
@@ -54,20 +94,12 @@ blocks:
 blocks:
   - {name: acc, kind: sum, input: [1, acc]}`,
 			`c.yaml:3:5: controller.blocks.acc: loop without a delay: acc -> acc`},
-		{"several problems at once", `rate: 100 Hz
-blocks:
-  - {name: a, kind: constant, value: 1, kp: 3}
-  - {name: b, kind: pid, kp: 1 deg, input: {setpoint: a.outt, measurement: zz}}`,
-			`c.yaml:3:41: controller.blocks.a.kp: unknown parameter "kp" for a constant block (it has name, kind, value)
-c.yaml:4:30: controller.blocks.b.kp: "1 deg" is an angle, but a number is wanted
-c.yaml:4:55: controller.blocks.b.input.setpoint: "a.outt": constant block a has no output "outt" (outputs: out)
-c.yaml:4:76: controller.blocks.b.input.measurement: "zz": no block named "zz"`},
-		{"missing rate", `blocks:
-  - {name: a, kind: constant, value: 1}`,
-			`c.yaml:1:1: controller.rate: missing: the rate the controller ticks at, e.g. 200 Hz`},
-		{"bad rate unit", `rate: 100 mm
-blocks: []`,
-			`c.yaml:1:7: controller.rate: "100 mm" is a length, but a frequency is wanted`},
+	})
+}
+
+// TestRobotMessages checks channels and actuators the robot does not have.
+func TestRobotMessages(t *testing.T) {
+	checkMessages(t, []messageCase{
 		{"missing sensor", `rate: 100 Hz
 blocks:
   - {name: s, kind: sensor, channel: leg_imu.tilt}`,
@@ -83,6 +115,12 @@ blocks:
   - {name: c, kind: actuator, actuator: hip, input: 0}`,
 			`c.yaml:3:41: controller.blocks.a.actuator: the robot has no actuator "knee" (it has hip, ankle)
 c.yaml:5:41: controller.blocks.c.actuator: actuator "hip" is already driven by block b`},
+	})
+}
+
+// TestSequencerMessages checks the states and transitions of a sequencer.
+func TestSequencerMessages(t *testing.T) {
+	checkMessages(t, []messageCase{
 		{"sequencer to an unknown state", `rate: 100 Hz
 blocks:
   - name: q
@@ -91,20 +129,17 @@ blocks:
     states:
       - {name: one, next: [{after: 1 s, to: tow}]}`,
 			`c.yaml:7:28: controller.blocks.q.states.one.next[0].to: no state named "tow"`},
-	}
-	for _, c := range cases {
-		spec, err := ParseBytes("c.yaml", []byte(c.text))
-		if err == nil {
-			_, err = Build(spec, channels, actuators)
-		}
-		if err == nil {
-			t.Errorf("%s: no error", c.name)
-			continue
-		}
-		if err.Error() != c.want {
-			t.Errorf("%s:\n got: %s\nwant: %s", c.name, err, c.want)
-		}
-	}
+		{"transition on a signal the sequencer does not have", `rate: 100 Hz
+blocks:
+  - name: q
+    kind: sequencer
+    outputs: [x]
+    signals: [tilt]
+    input: {tilt: 0}
+    states:
+      - {name: one, next: [{when: tlt, above: 1, to: one}]}`,
+			`c.yaml:9:35: controller.blocks.q.states.one.next[0].when: "tlt" is not a signal of this sequencer (signals: tilt)`},
+	})
 }
 
 func TestDelayBreaksLoop(t *testing.T) {
