@@ -6,7 +6,8 @@ import (
 	"fmt"
 	"io"
 
-	"teeter/sim/study"
+	"teeter/sim/rig"
+	"teeter/sim/study/bench"
 )
 
 func init() {
@@ -24,11 +25,11 @@ func cmdBench(args []string, stdout, stderr io.Writer) error {
 	if *runs < 2 {
 		return usageError{fmt.Errorf("--runs %d: want at least 2", *runs)}
 	}
-	rig, err := study.LoadRig(*model, "", "")
+	r, err := rig.Load(*model, "", "")
 	if err != nil {
 		return err
 	}
-	rep, err := rig.MeasureSpeed(context.Background(), *runs)
+	rep, err := bench.Measure(context.Background(), r, *runs)
 	if err != nil {
 		return err
 	}

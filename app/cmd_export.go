@@ -15,17 +15,17 @@ func init() {
 
 func cmdExport(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("export", stderr)
-	rf := addRigFlags(fs, true)
+	rf := addRigFlags(fs)
 	format := fs.String("format", "c-header", "json, yaml or c-header")
 	out := fs.String("out", "", "write to this file instead of standard output")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
-	rig, err := rf.load()
+	r, err := rf.load()
 	if err != nil {
 		return err
 	}
-	g, err := rig.Controller()
+	g, err := r.Controller()
 	if err != nil {
 		return err
 	}

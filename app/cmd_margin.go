@@ -10,7 +10,7 @@ import (
 	"strings"
 
 	"teeter/models"
-	"teeter/sim/study"
+	"teeter/sim/study/margin"
 )
 
 func init() {
@@ -19,68 +19,61 @@ func init() {
 
 func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("margin", stderr)
-	rf := addRigFlags(fs, true)
+	rf := addRigFlags(fs)
 	at := fs.String("at", "", "link to shove (default: the robot's fall-watch link, the torso)")
 	point := fs.String("point", "", "where on the link, x:y in the link frame (default: its centre of mass)")
 	dirs := fs.String("dir", "", "directions, comma separated: left, right, forward, back or degrees (default: left,right or back,forward by the robot's plane)")
-	tolText := fs.String("tol", "0.05N*s", "precision of the answer")
-	maxText := fs.String("max", "100N*s", "largest impulse tried")
-	settleText := fs.String("settle", "3s", "time the robot must stay up after the shove")
-	holdText := fs.String("hold", "0s", "spread the shove over this long")
+	var spec margin.Spec
+	quantities := []struct {
+		name, usage string
+		kind        models.Kind
+		dst         *float64
+	}{
+		{"tol", "precision of the answer (default 0.05N*s)", models.Impulse, &spec.Tol},
+		{"max", "largest impulse tried (default 100N*s)", models.Impulse, &spec.Max},
+		{"settle", "time the robot must stay up after the shove (default 3s)", models.Duration, &spec.Settle},
+		{"hold", "spread the shove over this long (default at once)", models.Duration, &spec.Hold},
+	}
+	texts := make([]*string, len(quantities))
+	for i, q := range quantities {
+		texts[i] = fs.String(q.name, "", q.usage)
+	}
 	workers := fs.Int("workers", 0, "runs in parallel (default: every core)")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")
 	asJSON := fs.Bool("json", false, "print the result as JSON")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
-	rig, err := rf.load()
-	if err != nil {
-		return err
-	}
-	spec := study.MarginSpec{Link: *at, Workers: *workers, Seed: *seed}
-	quantity := func(name, text string, kind models.Kind) (float64, error) {
-		v, _, err := models.ParseQuantity(text, kind)
-		if err != nil || v < 0 {
-			return 0, usageError{fmt.Errorf("--%s %q: %v", name, text, err)}
+	for i, q := range quantities {
+		if *texts[i] == "" {
+			continue // the study's default
 		}
-		return v, nil
+		v, _, err := models.ParseQuantity(*texts[i], q.kind)
+		if err != nil || v < 0 {
+			return usageError{fmt.Errorf("--%s %q: %v", q.name, *texts[i], err)}
+		}
+		*q.dst = v
 	}
-	if spec.Tol, err = quantity("tol", *tolText, models.Impulse); err != nil {
-		return err
-	}
-	if spec.Max, err = quantity("max", *maxText, models.Impulse); err != nil {
-		return err
-	}
-	if spec.Settle, err = quantity("settle", *settleText, models.Duration); err != nil {
-		return err
-	}
-	if spec.Hold, err = quantity("hold", *holdText, models.Duration); err != nil {
-		return err
-	}
+	spec.Link, spec.Workers, spec.Seed = *at, *workers, *seed
 	if *point != "" {
-		xs, ys, ok := strings.Cut(*point, ":")
-		var p models.Vec2
-		var ex, ey error
-		p.X, _, ex = models.ParseQuantity(xs, models.Length)
-		p.Y, _, ey = models.ParseQuantity(ys, models.Length)
-		if !ok || ex != nil || ey != nil {
-			return usageError{fmt.Errorf("--point %q: want x:y lengths such as 0:0.2m", *point)}
+		p, err := parsePoint(*point)
+		if err != nil {
+			return err
 		}
 		spec.Point = &p
 	}
-	switch {
-	case *dirs != "":
+	if *dirs != "" {
 		spec.Dirs = strings.Split(*dirs, ",")
-	case rig.Robot.Plane == models.Frontal:
-		spec.Dirs = []string{"left", "right"}
-	default:
-		spec.Dirs = []string{"back", "forward"}
+	}
+	r, err := rf.load()
+	if err != nil {
+		return err
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	bar := newProgress(stderr, "margin")
 	spec.Progress = bar.update
-	res, err := rig.Margin(ctx, spec)
+	res, err := margin.Find(ctx, r, spec)
 	bar.finish()
 	if err != nil {
 		return err
@@ -88,24 +81,38 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	if *asJSON {
 		return json.NewEncoder(stdout).Encode(jsonSafe(res))
 	}
-	fmt.Fprintf(stdout, "recovery margin of %s (shove at %.2f s, must stay up %.1f s after):\n", rig.Robot.Name, study.MarginShoveAt, spec.Settle)
-	for _, r := range res {
+	spec = spec.Filled(r.Robot)
+	fmt.Fprintf(stdout, "recovery margin of %s (shove at %.2f s, must stay up %.1f s after):\n", r.Robot.Name, spec.At, spec.Settle)
+	for _, m := range res {
 		switch {
-		case r.Unpushed:
-			fmt.Fprintf(stdout, "  %-8s falls without any shove\n", r.Dir)
-		case r.Capped:
-			fmt.Fprintf(stdout, "  %-8s survives even %.3g N*s (the --max)\n", r.Dir, r.Survived)
+		case m.Unpushed:
+			fmt.Fprintf(stdout, "  %-8s falls without any shove\n", m.Dir)
+		case m.Capped:
+			fmt.Fprintf(stdout, "  %-8s survives even %.3g N*s (the --max)\n", m.Dir, m.Survived)
 		default:
-			fmt.Fprintf(stdout, "  %-8s %.3f N*s (falls at %.3f N*s; %d runs)\n", r.Dir, r.Survived, r.Fell, r.Runs)
+			fmt.Fprintf(stdout, "  %-8s %.3f N*s (falls at %.3f N*s; %d runs)\n", m.Dir, m.Survived, m.Fell, m.Runs)
 		}
 	}
 	return nil
 }
 
+// parsePoint reads --point x:y, two lengths.
+func parsePoint(text string) (models.Vec2, error) {
+	xs, ys, ok := strings.Cut(text, ":")
+	var p models.Vec2
+	var ex, ey error
+	p.X, _, ex = models.ParseQuantity(xs, models.Length)
+	p.Y, _, ey = models.ParseQuantity(ys, models.Length)
+	if !ok || ex != nil || ey != nil {
+		return p, usageError{fmt.Errorf("--point %q: want x:y lengths such as 0:0.2m", text)}
+	}
+	return p, nil
+}
+
 // jsonSafe replaces an infinite "fell" (never fell) by -1, which JSON can
 // carry.
-func jsonSafe(res []study.MarginResult) []study.MarginResult {
-	out := make([]study.MarginResult, len(res))
+func jsonSafe(res []margin.Result) []margin.Result {
+	out := make([]margin.Result, len(res))
 	for i, r := range res {
 		if r.Capped || r.Unpushed {
 			r.Fell = -1

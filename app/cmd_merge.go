@@ -8,7 +8,8 @@ import (
 	"os"
 
 	"teeter/models"
-	"teeter/sim/study"
+	"teeter/sim/study/plot"
+	"teeter/sim/study/sweep"
 )
 
 func init() {
@@ -34,20 +35,20 @@ func cmdMerge(args []string, stdout, stderr io.Writer) error {
 	if fs.NArg() == 0 {
 		return usageError{errors.New("give the shard CSV files to merge")}
 	}
-	var parts []*study.SweepResult
+	var parts []*sweep.Result
 	for _, name := range fs.Args() {
 		f, err := os.Open(name)
 		if err != nil {
 			return err
 		}
-		r, err := study.ReadSweepCSV(name, f)
+		r, err := sweep.ReadCSV(name, f)
 		f.Close()
 		if err != nil {
 			return err
 		}
 		parts = append(parts, r)
 	}
-	merged, missing, err := study.MergeSweeps(parts...)
+	merged, missing, err := sweep.Merge(parts...)
 	if err != nil {
 		return err
 	}
@@ -62,7 +63,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *plotFile != "" {
-		return study.PlotSweep(merged, *metric, *plotFile)
+		return plot.Sweep(merged, *metric, *plotFile)
 	}
 	return nil
 }

@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"io"
 
-	"teeter/sim/study"
+	"teeter/sim/study/modes"
 )
 
 func init() {
@@ -14,7 +14,7 @@ func init() {
 
 func cmdModes(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("modes", stderr)
-	rf := addRigFlags(fs, true)
+	rf := addRigFlags(fs)
 	spanText := fs.String("span", "4s", "response time used for the fit")
 	order := fs.Int("order", 0, "model order (default: from the singular values)")
 	minWeight := fs.Float64("min-weight", 0.01, "leave out modes carrying less than this share of the response")
@@ -27,18 +27,18 @@ func cmdModes(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	rig, err := rf.load()
+	r, err := rf.load()
 	if err != nil {
 		return err
 	}
-	modes, err := rig.Modes(study.LineariseOptions{Span: span, Order: *order, Seed: *seed})
+	ms, err := modes.Identify(r, modes.Options{Span: span, Order: *order, Seed: *seed})
 	if err != nil {
 		return err
 	}
 	if *asJSON {
-		return json.NewEncoder(stdout).Encode(modes)
+		return json.NewEncoder(stdout).Encode(ms)
 	}
-	fmt.Fprintf(stdout, "closed-loop modes of %s standing (identified from kicks; no noise, quantization, deadband or backlash):\n", rig.Robot.Name)
-	fmt.Fprint(stdout, study.ModeTable(modes, *minWeight))
+	fmt.Fprintf(stdout, "closed-loop modes of %s standing (identified from kicks; no noise, quantization, deadband or backlash):\n", r.Robot.Name)
+	fmt.Fprint(stdout, modes.Table(ms, *minWeight))
 	return nil
 }

@@ -4,9 +4,11 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"time"
 
 	"teeter/models"
 	"teeter/sim"
+	"teeter/sim/rig"
 )
 
 func init() {
@@ -15,7 +17,7 @@ func init() {
 
 func cmdRun(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("run", stderr)
-	rf := addRigFlags(fs, true)
+	rf := addRigFlags(fs)
 	durText := fs.String("duration", "10s", "simulated time to run")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")
 	csvFile := fs.String("csv", "", "write every recorded signal to this CSV file")
@@ -33,25 +35,29 @@ func cmdRun(args []string, stdout, stderr io.Writer) error {
 	if opt.Shoves, err = parseShoves(shoves); err != nil {
 		return err
 	}
-	rig, err := rf.load()
+	r, err := rf.load()
 	if err != nil {
 		return err
 	}
-	plant, sum, err := rig.Run(duration, opt)
+	start := time.Now()
+	o, err := r.Run(duration, opt)
 	if err != nil {
 		return err
+	}
+	sum := runSummary{Summary: o.Summary, WallSeconds: time.Since(start).Seconds()}
+	if sum.WallSeconds > 0 {
+		sum.RealtimeFactor = sum.SimSeconds / sum.WallSeconds
 	}
 	if *csvFile != "" {
-		if err := models.WriteFileAtomic(*csvFile, plant.Recorder().WriteCSV); err != nil {
+		if err := models.WriteFileAtomic(*csvFile, o.Rec.WriteCSV); err != nil {
 			return err
 		}
 	}
 	if *asJSON {
-		enc := json.NewEncoder(stdout)
-		return enc.Encode(sum)
+		return json.NewEncoder(stdout).Encode(sum)
 	}
 	fmt.Fprintf(stdout, "robot %s, %.2f s simulated in %.2f s (%.0fx real time)\n",
-		rig.Robot.Name, sum.SimSeconds, sum.WallSeconds, sum.RealtimeFactor)
+		r.Robot.Name, sum.SimSeconds, sum.WallSeconds, sum.RealtimeFactor)
 	if sum.Fell {
 		fmt.Fprintf(stdout, "FELL at %.3f s: %s\n", sum.FallTime, sum.FallReason)
 	} else {
@@ -59,7 +65,15 @@ func cmdRun(args []string, stdout, stderr io.Writer) error {
 	}
 	fmt.Fprintf(stdout, "torso tilt: peak %.2f deg, final %.2f deg\n", sum.PeakTilt, sum.FinalTilt)
 	if *csvFile != "" {
-		fmt.Fprintf(stdout, "recording: %s (%d rows)\n", *csvFile, plant.Recorder().Len())
+		fmt.Fprintf(stdout, "recording: %s (%d rows)\n", *csvFile, o.Rec.Len())
 	}
 	return nil
+}
+
+// runSummary is the run's summary with the wall-clock time it took, which
+// the command measures: a study's results never depend on the clock.
+type runSummary struct {
+	rig.Summary
+	WallSeconds    float64 `json:"wall_seconds"`
+	RealtimeFactor float64 `json:"realtime_factor"`
 }

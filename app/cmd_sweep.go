@@ -15,7 +15,9 @@ import (
 
 	"teeter/models"
 	"teeter/sim"
-	"teeter/sim/study"
+	"teeter/sim/study/metric"
+	"teeter/sim/study/plot"
+	"teeter/sim/study/sweep"
 )
 
 func init() {
@@ -24,11 +26,11 @@ func init() {
 
 func cmdSweep(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("sweep", stderr)
-	rf := addRigFlags(fs, true)
+	rf := addRigFlags(fs)
 	var params, shoves multiFlag
 	fs.Var(&params, "param", "PATH=FROM:TO:STEPS, a robot parameter or a gain (repeat for a 2-D grid)")
 	fs.Var(&shoves, "shove", "a shove in every run, e.g. at=1s,impulse=2N*s,dir=left (repeatable)")
-	metric := fs.String("metric", "peak_tilt", "metric(s) to record, comma separated ('teeter sweep -metrics' lists them)")
+	metricNames := fs.String("metric", "peak_tilt", "metric(s) to record, comma separated ('teeter sweep -metrics' lists them)")
 	listMetrics := fs.Bool("metrics", false, "list the metrics and exit")
 	durText := fs.String("duration", "5s", "simulated time per point")
 	csvFile := fs.String("csv", "", "write the results to this CSV file")
@@ -40,17 +42,17 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *listMetrics {
-		for _, m := range study.Metrics() {
+		for _, m := range metric.All() {
 			fmt.Fprintf(stdout, "%-14s %-9s %s\n", m.Name, m.Unit, m.Meaning)
 		}
 		return nil
 	}
-	spec := study.SweepSpec{Metrics: strings.Split(*metric, ","), Seed: *seed, Workers: *workers}
+	spec := sweep.Spec{Metrics: strings.Split(*metricNames, ","), Seed: *seed, Workers: *workers}
 	if len(params) == 0 {
 		return usageError{errors.New("give at least one --param PATH=FROM:TO:STEPS")}
 	}
 	for _, p := range params {
-		a, err := study.ParseAxis(p)
+		a, err := sweep.ParseAxis(p)
 		if err != nil {
 			return usageError{err}
 		}
@@ -64,11 +66,11 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *shardText != "" {
-		if spec.Shard, err = study.ParseShard(*shardText); err != nil {
+		if spec.Shard, err = sweep.ParseShard(*shardText); err != nil {
 			return usageError{err}
 		}
 	}
-	rig, err := rf.load()
+	r, err := rf.load()
 	if err != nil {
 		return err
 	}
@@ -76,7 +78,7 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 	defer stop()
 	bar := newProgress(stderr, "sweep")
 	spec.Progress = bar.update
-	res, runErr := rig.Sweep(ctx, spec)
+	res, runErr := sweep.Run(ctx, r, spec)
 	bar.finish()
 	if res == nil {
 		return runErr
@@ -91,7 +93,7 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if *plotFile != "" && runErr == nil {
-		if err := study.PlotSweep(res, spec.Metrics[0], *plotFile); err != nil {
+		if err := plot.Sweep(res, spec.Metrics[0], *plotFile); err != nil {
 			return err
 		}
 	}

@@ -7,7 +7,7 @@ import (
 	"strings"
 
 	"teeter/models"
-	"teeter/sim/study"
+	"teeter/sim/study/wobble"
 )
 
 func init() {
@@ -16,7 +16,7 @@ func init() {
 
 func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("wobble", stderr)
-	rf := addRigFlags(fs, true)
+	rf := addRigFlags(fs)
 	backlashText := fs.String("backlash", "0.4mm", "total play given to each listed screw (a length, or an angle for rotary screws)")
 	acts := fs.String("actuators", "hip_left,hip_right,ankle_left,ankle_right", "lead screws given the backlash, comma separated")
 	durText := fs.String("duration", "40s", "simulated time")
@@ -35,11 +35,11 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 			return usageError{fmt.Errorf("--backlash %q: want a length such as 0.4mm or an angle such as 1deg", *backlashText)}
 		}
 	}
-	rig, err := rf.load()
+	r, err := rf.load()
 	if err != nil {
 		return err
 	}
-	res, err := rig.Wobble(study.WobbleSpec{Actuators: strings.Split(*acts, ","), Backlash: backlash, Duration: dur, Seed: *seed})
+	res, err := wobble.Run(r, wobble.Spec{Actuators: strings.Split(*acts, ","), Backlash: backlash, Duration: dur, Seed: *seed})
 	if err != nil {
 		return err
 	}
@@ -52,7 +52,7 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 		}
 		return fmt.Sprintf("%.3f mm", v*1000)
 	}
-	fmt.Fprintf(stdout, "backlash %s in %s of %s\n", *backlashText, *acts, rig.Robot.Name)
+	fmt.Fprintf(stdout, "backlash %s in %s of %s\n", *backlashText, *acts, r.Robot.Name)
 	fmt.Fprintf(stdout, "%-12s %12s %12s %10s %10s\n", "", "screw amp", "output amp", "tilt deg", "freq Hz")
 	for _, p := range res.Predictions {
 		if !p.Found {

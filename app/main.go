@@ -9,7 +9,8 @@
 //	teeter margin  the largest shove the robot survives, per direction
 //	teeter sweep   a parameter sweep on all cores, to CSV and a plot
 //	teeter merge   join the shards of a sweep run as a job array
-//	teeter tune    Nelder-Mead tuning over shoves, or a relay test
+//	teeter tune    Nelder-Mead tuning of gains over shoves and robot variants
+//	teeter relay   a relay test of one PID block, with tuning rules
 //	teeter modes   closed-loop modes of the standing robot
 //	teeter wobble  the backlash limit cycle, predicted and simulated
 //	teeter bench   speed measurements
@@ -25,7 +26,7 @@ import (
 	"os"
 
 	"teeter/app/internal/quietinit"
-	"teeter/sim/study"
+	"teeter/sim/rig"
 )
 
 // command is one subcommand of teeter.
@@ -119,21 +120,15 @@ type rigFlags struct {
 	model, controller, gains *string
 }
 
-// addRigFlags declares --model, --controller and, when gainsFlag is set,
-// --gains (tune uses that name for the gains it tunes).
-func addRigFlags(fs *flag.FlagSet, gainsFlag bool) rigFlags {
-	rf := rigFlags{
+// addRigFlags declares --model, --controller and --gains.
+func addRigFlags(fs *flag.FlagSet) rigFlags {
+	return rigFlags{
 		model:      fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file"),
 		controller: fs.String("controller", "", "controller: a file or builtin:NAME (default: the robot's own or built-in controller)"),
+		gains:      fs.String("gains", "", "gain set file (JSON or YAML) applied on top of the controller"),
 	}
-	empty := ""
-	rf.gains = &empty
-	if gainsFlag {
-		rf.gains = fs.String("gains", "", "gain set file (JSON or YAML) applied on top of the controller")
-	}
-	return rf
 }
 
-func (rf rigFlags) load() (*study.Rig, error) {
-	return study.LoadRig(*rf.model, *rf.controller, *rf.gains)
+func (rf rigFlags) load() (*rig.Rig, error) {
+	return rig.Load(*rf.model, *rf.controller, *rf.gains)
 }

@@ -12,37 +12,12 @@ import (
 
 	"teeter/control"
 	"teeter/models"
+	"teeter/sim/rig"
 )
 
 // Editing the controller graph works on the controller section as a value
 // tree: a change is made to a copy, the copy is parsed and built against the
 // robot, and only a controller that passes both replaces the running one.
-
-// controllerValue is the robot's controller section (a built-in robot's
-// built-in controller when it has none), as a value tree to edit.
-func controllerValue(r *models.Robot) (*models.Value, error) {
-	if r.Controller != nil {
-		v := r.Controller.Clone()
-		return &v, nil
-	}
-	name, ok := strings.CutPrefix(r.Source, "builtin:")
-	if !ok {
-		return nil, errors.New("this robot has no controller section to edit")
-	}
-	data, err := control.BuiltinSource(name)
-	if err != nil {
-		return nil, err
-	}
-	root, err := models.ParseValue("builtin:"+name+".controller", data)
-	if err != nil {
-		return nil, err
-	}
-	if f, ok := root.Get("controller"); ok {
-		v := f.Value
-		return &v, nil
-	}
-	return &root, nil
-}
 
 func scalar(text string) models.Value { return models.Value{Kind: models.Scalar, Text: text} }
 
@@ -146,7 +121,7 @@ func checkController(r *models.Robot, ctrl *models.Value) (*control.Spec, error)
 // it cannot be applied and changes nothing. Gains tuned in the window are
 // kept for the parameters that still exist.
 func (w *Window) editController(edit func(ctrl *models.Value) error) error {
-	ctrl, err := controllerValue(w.robot)
+	ctrl, err := rig.ControllerSection(w.robot)
 	if err == nil {
 		err = edit(ctrl)
 	}

@@ -17,6 +17,7 @@ import (
 	"teeter/control"
 	"teeter/models"
 	"teeter/sim/live"
+	"teeter/sim/rig"
 )
 
 func savePNG(path string, img image.Image) error {
@@ -132,7 +133,7 @@ func (w *Window) OpenRobot(path string) error {
 // installRobot checks a loaded robot and its controller and, when both
 // are good, runs it in place of the current one.
 func (w *Window) installRobot(r *models.Robot, path string) error {
-	spec, err := loadSpec(r)
+	spec, err := rig.Spec(r)
 	if err == nil && spec != nil {
 		_, err = control.Build(spec, models.Channels(r), models.ActuatorNames(r))
 	}
@@ -166,7 +167,7 @@ func (w *Window) robotToSave() *models.Robot {
 	r := w.currentRobot()
 	if r.Controller == nil && w.spec != nil {
 		if w.ctrl == nil {
-			w.ctrl, _ = controllerValue(w.robot)
+			w.ctrl, _ = rig.ControllerSection(w.robot)
 		}
 		if w.ctrl != nil {
 			c := w.ctrl.Clone()
@@ -282,7 +283,7 @@ func (w *Window) ExportCSV(path string) error {
 		for _, i := range idx {
 			bw.WriteString(",")
 			bw.WriteString(names[i])
-			if u := unitOf(names, units, i); u != "" {
+			if u := unitOf(units, i); u != "" {
 				bw.WriteString(" [" + u + "]")
 			}
 		}

@@ -3,31 +3,15 @@ package ui
 import (
 	"errors"
 	"math"
-	"slices"
-	"strings"
 
-	"teeter/control"
 	"teeter/models"
 	"teeter/sim"
 	"teeter/sim/live"
-	"teeter/sim/study"
+	"teeter/sim/rig"
 )
 
 // physicsRate is the plant's step rate in the window.
 const physicsRate = 1000
-
-// loadSpec finds a robot's controller as study.LoadRig does: the robot's
-// own controller section, else the built-in controller of a built-in robot
-// of the same name, else none (nil).
-func loadSpec(r *models.Robot) (*control.Spec, error) {
-	if r.Controller != nil {
-		return control.Parse(r.Controller)
-	}
-	if name, ok := strings.CutPrefix(r.Source, "builtin:"); ok && slices.Contains(control.BuiltinNames(), name) {
-		return control.Builtin(name)
-	}
-	return nil, nil
-}
 
 // simPlant drives a sim.Plant one controller tick at a time for the runner.
 type simPlant struct {
@@ -36,21 +20,17 @@ type simPlant struct {
 	rec     *sim.Recorder
 }
 
-// buildPlant makes the plant and controller graph for a robot through the
-// studies' glue (study.Rig), the real Build of the window's runner. The
-// controller runs at its own rate, at most the physics rate.
+// buildPlant makes the plant and controller graph for a robot through
+// sim/rig, the real Build of the window's runner. The controller runs at
+// its own rate, at most the physics rate.
 func buildPlant(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
-	spec, err := loadSpec(r)
+	spec, err := rig.Spec(r)
 	if err != nil {
 		return nil, nil, err
 	}
-	rate := sim.DefaultControlRate // sim.HoldPose's rate when there is no controller graph
-	if spec != nil && spec.Rate > 0 {
-		rate = spec.Rate
-	}
-	rate = math.Min(rate, physicsRate)
-	rig := study.Rig{Robot: r, Spec: spec}
-	p, graph, err := rig.Build(sim.Options{PhysicsRate: physicsRate, ControlRate: rate, RecordCapacity: 2})
+	rg := rig.Rig{Robot: r, Spec: spec}
+	rate := math.Min(rg.ControlRate(), physicsRate)
+	p, graph, err := rg.Build(sim.Options{PhysicsRate: physicsRate, ControlRate: rate, RecordCapacity: 2})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -76,10 +56,11 @@ func (s *simPlant) Step() error {
 	return nil
 }
 
-func (s *simPlant) Time() float64              { return s.p.Time() }
-func (s *simPlant) Shove(sh sim.Shove) error   { return s.p.Shove(sh) }
-func (s *simPlant) Snapshot(dst *sim.Snapshot) { s.p.Snapshot(dst) }
-func (s *simPlant) SignalNames() []string      { return append([]string(nil), s.rec.Columns()...) }
+func (s *simPlant) Time() float64                   { return s.p.Time() }
+func (s *simPlant) Shove(sh sim.Shove) error        { return s.p.Shove(sh) }
+func (s *simPlant) Schedule(list []sim.Shove) error { return s.p.Schedule(list) }
+func (s *simPlant) Snapshot(dst *sim.Snapshot)      { s.p.Snapshot(dst) }
+func (s *simPlant) SignalNames() []string           { return append([]string(nil), s.rec.Columns()...) }
 
 // SignalUnits gives the recorder's unit of each column.
 func (s *simPlant) SignalUnits() []string {

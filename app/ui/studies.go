@@ -26,10 +26,15 @@ import (
 	"teeter/control"
 	"teeter/models"
 	"teeter/sim"
-	"teeter/sim/study"
+	"teeter/sim/rig"
+	"teeter/sim/study/margin"
+	"teeter/sim/study/metric"
+	"teeter/sim/study/plot"
+	"teeter/sim/study/sweep"
+	"teeter/sim/study/tune"
 )
 
-// The studies tab runs the studies of sim/study on the window's robot and
+// The studies tab runs the studies of sim/study/... on the window's robot and
 // gains as they are when a study starts: each in its own goroutine with a
 // progress bar and a cancel button, its result shown in the tab and saved
 // in the studies directory beside the autosave.
@@ -115,9 +120,9 @@ type studiesPanel struct {
 	tune                            *studyJob
 	tPaths, tShove                  *widget.Entry
 	tIterations                     *numberField
-	lastMargin                      []study.MarginResult
-	lastSweep                       *study.SweepResult
-	lastTune                        *study.TuneResult
+	lastMargin                      []margin.Result
+	lastSweep                       *sweep.Result
+	lastTune                        *tune.Result
 	lastSweepMetric, lastSweepImage string
 }
 
@@ -130,16 +135,13 @@ func newStudiesPanel(w *Window) *studiesPanel {
 	p.mDirs, p.mLink = widget.NewEntry(), widget.NewEntry()
 	p.mLink.SetPlaceHolder("(the watched link)")
 	p.mSettle = newNumberField("s", 0.1, 60, nil)
-	p.mSettle.show(3)
 	p.mTol = newNumberField("N*s", 0.001, 100, nil)
-	p.mTol.show(0.1)
 	p.mMax = newNumberField("N*s", 0.01, 1000, nil)
-	p.mMax.show(20)
 	p.sAxis1, p.sAxis2, p.sShove = widget.NewEntry(), widget.NewEntry(), widget.NewEntry()
 	p.sAxis2.SetPlaceHolder("optional second parameter, for a heat map")
 	p.sShove.SetPlaceHolder("none, or at=0.5s,impulse=2N*s,dir=left")
 	var names []string
-	for _, m := range study.Metrics() {
+	for _, m := range metric.All() {
 		names = append(names, m.Name)
 	}
 	p.sMetric = widget.NewSelect(names, nil)
@@ -154,7 +156,12 @@ func newStudiesPanel(w *Window) *studiesPanel {
 
 // setRobot fills the inputs with what suits a newly opened robot.
 func (p *studiesPanel) setRobot(r *models.Robot, params []control.ParamInfo, blocks []string) {
-	p.mDirs.SetText("left, right")
+	// The margin study's own defaults for this robot.
+	m := margin.Spec{}.Filled(r)
+	p.mDirs.SetText(strings.Join(m.Dirs, ", "))
+	p.mSettle.show(m.Settle)
+	p.mTol.show(m.Tol)
+	p.mMax.show(m.Max)
 	p.mLink.SetText("")
 	axis := ""
 	if len(r.Actuators) > 0 {
@@ -225,9 +232,9 @@ func (p *studiesPanel) object() fyne.CanvasObject {
 }
 
 // rig is the window's robot, controller and gains as they are now.
-func (p *studiesPanel) rig() *study.Rig {
+func (p *studiesPanel) rig() *rig.Rig {
 	gs := p.w.Gains()
-	return &study.Rig{Robot: p.w.currentRobot(), Spec: p.w.spec, Gains: &gs}
+	return &rig.Rig{Robot: p.w.currentRobot(), Spec: p.w.spec, Gains: &gs}
 }
 
 // workers leaves a core for the window and the live run.
@@ -260,22 +267,27 @@ func splitList(text string) []string {
 	return out
 }
 
+// fraction turns a study's count of runs done into the share done.
+func fraction(progress func(float64)) func(done, total int) {
+	return func(done, total int) { progress(float64(done) / float64(max(total, 1))) }
+}
+
 func (p *studiesPanel) startMargin() {
 	vals, ok := read(p.mSettle, p.mTol, p.mMax)
 	if !ok {
 		return
 	}
-	spec := study.MarginSpec{Link: strings.TrimSpace(p.mLink.Text), Dirs: splitList(p.mDirs.Text),
+	spec := margin.Spec{Link: strings.TrimSpace(p.mLink.Text), Dirs: splitList(p.mDirs.Text),
 		Settle: vals[0], Tol: vals[1], Max: vals[2], Workers: workers()}
-	rig := p.rig()
+	r := p.rig()
 	p.margin.run(func(ctx context.Context, progress func(float64)) func() {
-		spec.Progress = func(done, total int) { progress(float64(done) / float64(max(total, 1))) }
-		res, err := rig.Margin(ctx, spec)
+		spec.Progress = fraction(progress)
+		res, err := margin.Find(ctx, r, spec)
 		return func() { p.showMargin(res, err) }
 	})
 }
 
-func (p *studiesPanel) showMargin(res []study.MarginResult, err error) {
+func (p *studiesPanel) showMargin(res []margin.Result, err error) {
 	j := p.margin
 	if err != nil && !errors.Is(err, context.Canceled) {
 		j.status.SetText("The margin study failed: " + err.Error())
@@ -311,7 +323,7 @@ func (p *studiesPanel) showMargin(res []study.MarginResult, err error) {
 	j.result.Refresh()
 }
 
-func writeMarginCSV(path string, res []study.MarginResult) error {
+func writeMarginCSV(path string, res []margin.Result) error {
 	return models.WriteFileAtomic(path, func(w io.Writer) error {
 		cw := csv.NewWriter(w)
 		cw.Write([]string{"direction", "survived [N*s]", "fell [N*s]", "capped", "falls_unpushed", "runs"})
@@ -347,12 +359,12 @@ func (p *studiesPanel) startSweep() {
 	if !ok {
 		return
 	}
-	var axes []study.Axis
+	var axes []sweep.Axis
 	for _, e := range []*widget.Entry{p.sAxis1, p.sAxis2} {
 		if strings.TrimSpace(e.Text) == "" {
 			continue
 		}
-		a, err := study.ParseAxis(e.Text)
+		a, err := sweep.ParseAxis(e.Text)
 		if err != nil {
 			j.status.SetText(err.Error())
 			return
@@ -369,18 +381,18 @@ func (p *studiesPanel) startSweep() {
 	if metric != "fell" {
 		metrics = append(metrics, "fell")
 	}
-	spec := study.SweepSpec{Axes: axes, Metrics: metrics, Duration: vals[0], Shoves: shoves, Workers: workers()}
-	rig := p.rig()
+	spec := sweep.Spec{Axes: axes, Metrics: metrics, Duration: vals[0], Shoves: shoves, Workers: workers()}
+	r := p.rig()
 	j.run(func(ctx context.Context, progress func(float64)) func() {
-		spec.Progress = func(done, total int) { progress(float64(done) / float64(max(total, 1))) }
-		res, err := rig.Sweep(ctx, spec)
+		spec.Progress = fraction(progress)
+		res, err := sweep.Run(ctx, r, spec)
 		if err != nil && !errors.Is(err, context.Canceled) {
 			return func() { j.status.SetText("The sweep failed: " + err.Error()) }
 		}
 		// Save and draw off the UI thread; the plot is read back to show.
 		csvFile, csvErr := autoSave("sweep", ".csv", func(path string) error { return writeSweepCSV(path, res) })
 		var img image.Image
-		pngFile, plotErr := autoSave("sweep", ".png", func(path string) error { return study.PlotSweep(res, metric, path) })
+		pngFile, plotErr := autoSave("sweep", ".png", func(path string) error { return plot.Sweep(res, metric, path) })
 		if plotErr == nil {
 			img, plotErr = readPNG(pngFile)
 		}
@@ -388,7 +400,7 @@ func (p *studiesPanel) startSweep() {
 	})
 }
 
-func writeSweepCSV(path string, res *study.SweepResult) error {
+func writeSweepCSV(path string, res *sweep.Result) error {
 	return models.WriteFileAtomic(path, res.WriteCSV)
 }
 
@@ -400,7 +412,7 @@ func readPNG(path string) (image.Image, error) {
 	return png.Decode(bytes.NewReader(data))
 }
 
-func (p *studiesPanel) showSweep(res *study.SweepResult, err error, metric string, img image.Image, plotErr error, pngFile, csvFile string, csvErr error) {
+func (p *studiesPanel) showSweep(res *sweep.Result, err error, metric string, img image.Image, plotErr error, pngFile, csvFile string, csvErr error) {
 	j := p.sweep
 	p.lastSweep, p.lastSweepMetric, p.lastSweepImage = res, metric, pngFile
 	state := fmt.Sprintf("Done: %d points", len(res.Points))
@@ -430,7 +442,7 @@ func (p *studiesPanel) showSweep(res *study.SweepResult, err error, metric strin
 			p.w.saveFile("sweep.csv", func(path string) error { return writeSweepCSV(path, res) })
 		}),
 		widget.NewButtonWithIcon("Save plot…", theme.DocumentSaveIcon(), func() {
-			p.w.saveFile("sweep.png", func(path string) error { return study.PlotSweep(res, metric, path) })
+			p.w.saveFile("sweep.png", func(path string) error { return plot.Sweep(res, metric, path) })
 		}),
 	))
 	j.result.Refresh()
@@ -450,15 +462,15 @@ func (p *studiesPanel) startTune() {
 		j.status.SetText(err.Error())
 		return
 	}
-	spec := study.TuneSpec{Paths: splitList(p.tPaths.Text), Shoves: shoves, Iterations: int(vals[0]), Workers: workers()}
+	spec := tune.Spec{Paths: splitList(p.tPaths.Text), Shoves: shoves, Iterations: int(vals[0]), Workers: workers()}
 	// Evaluations: the first simplex, then about two per iteration.
 	estimate := float64(len(spec.Paths) + 1 + 2*spec.Iterations)
-	rig := p.rig()
+	r := p.rig()
 	j.run(func(ctx context.Context, progress func(float64)) func() {
-		spec.Progress = func(tp study.TuneProgress) {
+		spec.Progress = func(tp tune.Progress) {
 			progress(math.Min(0.99, float64(tp.Evaluation)/estimate))
 		}
-		res, err := rig.Tune(ctx, spec)
+		res, err := tune.Run(ctx, r, spec)
 		if err != nil && (res == nil || !errors.Is(err, context.Canceled)) {
 			return func() { j.status.SetText("The tuning failed: " + err.Error()) }
 		}
@@ -467,7 +479,7 @@ func (p *studiesPanel) startTune() {
 	})
 }
 
-func (p *studiesPanel) showTune(res *study.TuneResult, err error, file string, werr error) {
+func (p *studiesPanel) showTune(res *tune.Result, err error, file string, werr error) {
 	j := p.tune
 	p.lastTune = res
 	state := "Done (" + res.Status + ")"

@@ -26,6 +26,7 @@ import (
 	"teeter/models"
 	"teeter/sim"
 	"teeter/sim/live"
+	"teeter/sim/rig"
 )
 
 // Options say what the window opens with.
@@ -113,7 +114,7 @@ func newWindow(a fyne.App, opts Options, build live.Build[sim.Snapshot]) (*Windo
 	if err != nil {
 		return nil, err
 	}
-	spec, err := loadSpec(robot)
+	spec, err := rig.Spec(robot)
 	if err != nil {
 		return nil, err
 	}

@@ -1,4 +1,4 @@
-package study
+package modes
 
 import (
 	"math"
@@ -7,6 +7,8 @@ import (
 	"teeter/control"
 	"teeter/models"
 	"teeter/sim"
+	"teeter/sim/rig"
+	"teeter/sim/study/metric"
 )
 
 // dominant is the mode of largest weight.
@@ -38,12 +40,11 @@ func TestEraMassSpringDamper(t *testing.T) {
 		v := e * (wd*math.Cos(wd*tt) - zeta*wn*math.Sin(wd*tt)) / (m * wd)
 		y[i] = []float64{x, v}
 	}
-	re, err := era(y, 2, 1, 0, 1e-6)
+	re, err := ERA(&Responses{Outputs: []string{"x", "v"}, Kicks: []Kick{{Name: "impulse"}}, T: dt, Y: y}, 0, 1e-6)
 	if err != nil {
 		t.Fatal(err)
 	}
-	re.T = dt
-	modes, err := re.modes()
+	modes, err := re.Modes()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -62,9 +63,9 @@ func TestEraMassSpringDamper(t *testing.T) {
 // controller u = -a*tilt - b*rate at the physics rate, no sensor latency,
 // no joint friction, and stiff, well-damped pads so that the foot stays
 // put.
-func pdPendulum(t *testing.T, a, b, torque float64) *Rig {
+func pdPendulum(t *testing.T, a, b, torque float64) *rig.Rig {
 	t.Helper()
-	base, err := LoadRig("builtin:pendulum", "", "")
+	base, err := rig.Load("builtin:pendulum", "", "")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -101,11 +102,11 @@ controller:
 	if err != nil {
 		t.Fatal(err)
 	}
-	rig := &Rig{Robot: r, Spec: spec, Gains: &control.GainSet{Gains: []control.Gain{{Path: "p.k", Value: a}, {Path: "d.k", Value: b}}}}
-	if _, _, err := rig.Build(sim.Options{}); err != nil {
+	pd := &rig.Rig{Robot: r, Spec: spec, Gains: &control.GainSet{Gains: []control.Gain{{Path: "p.k", Value: a}, {Path: "d.k", Value: b}}}}
+	if _, _, err := pd.Build(sim.Options{}); err != nil {
 		t.Fatal(err)
 	}
-	return rig
+	return pd
 }
 
 func TestModesOfPDPendulum(t *testing.T) {
@@ -121,52 +122,15 @@ func TestModesOfPDPendulum(t *testing.T) {
 	zeta := 0.3
 	a := (inertia*wn*wn + mass*g*d) / torque
 	b := (2*zeta*wn*inertia - c) / torque
-	rig := pdPendulum(t, a, b, torque)
-	modes, err := rig.Modes(LineariseOptions{Span: 3})
+	modes, err := Identify(pdPendulum(t, a, b, torque), Options{Span: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
 	got := dominant(modes)
-	t.Logf("modes:\n%s", ModeTable(modes, 0))
+	t.Logf("modes:\n%s", Table(modes, 0))
 	t.Logf("dominant %.4f Hz, zeta %.4f; characteristic equation %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
 	if math.Abs(got.FrequencyHz*2*math.Pi-wn)/wn > 0.03 || math.Abs(got.Damping-zeta)/zeta > 0.05 {
 		t.Errorf("identified %.4f Hz, zeta %.4f; want %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
-	}
-}
-
-func TestFrontalWobbleBothExist(t *testing.T) {
-	// Backlash in an integrating loop hunts (Gelb and Vander Velde, 1968,
-	// ch. 2: backlash ahead of an integrator gives a limit cycle); the
-	// describing function must find one in a hip loop of the frontal demo
-	// with 0.4 mm of play, and the simulation must wobble. The two are not
-	// compared: the simulated wobble is faster than the predicted hunt (see
-	// the log), since in the simulation the torso rattles inside the play,
-	// which the backlash describing function, whose output stays put between
-	// contacts, does not describe.
-	if testing.Short() {
-		t.Skip("40 s of simulation")
-	}
-	rig, err := LoadRig("builtin:frontal", "", "")
-	if err != nil {
-		t.Fatal(err)
-	}
-	res, err := rig.Wobble(WobbleSpec{Actuators: []string{"hip_left", "hip_right", "ankle_left", "ankle_right"}, Backlash: 0.0004, Seed: 1})
-	if err != nil {
-		t.Fatal(err)
-	}
-	found := false
-	for _, p := range res.Predictions {
-		t.Logf("%s: predicted %v, screw %.3g mm, tilt %.3g deg at %.3g Hz (crossover %.3g Hz, phase %.0f deg)", p.Actuator, p.Found, p.ScrewAmp*1000, p.TiltAmp, p.FrequencyHz, p.CrossoverHz, p.PhaseDeg)
-		if p.Found && p.ScrewAmp > 0.0002 && p.FrequencyHz > 0 {
-			found = true
-		}
-	}
-	t.Logf("simulated: tilt %.3g deg at %.3g Hz", res.TiltAmp, res.FrequencyHz)
-	if !found {
-		t.Error("no limit cycle predicted in any loop")
-	}
-	if res.Fell || !(res.TiltAmp > 0.05) {
-		t.Errorf("simulation: fell %v, tilt amplitude %.3g deg", res.Fell, res.TiltAmp)
 	}
 }
 
@@ -182,18 +146,18 @@ func TestRaisingLegGainsMovesTheSwayMode(t *testing.T) {
 	if testing.Short() {
 		t.Skip("several seconds of identification and simulation")
 	}
-	base, err := LoadRig("builtin:frontal", "", "")
+	base, err := rig.Load("builtin:frontal", "", "")
 	if err != nil {
 		t.Fatal(err)
 	}
 	paths := []string{"leg_angle_left.kp", "leg_angle_right.kp"}
-	amp, _ := LookupMetric("osc_amplitude")
+	amp, _ := metric.Lookup("osc_amplitude")
 	sway := func(kp float64) (Mode, float64) {
-		rig, err := base.Variant(paths, []float64{kp, kp})
+		v, err := base.Variant(paths, []float64{kp, kp})
 		if err != nil {
 			t.Fatal(err)
 		}
-		modes, err := rig.Modes(LineariseOptions{})
+		modes, err := Identify(v, Options{})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -206,7 +170,7 @@ func TestRaisingLegGainsMovesTheSwayMode(t *testing.T) {
 		if best.Weight == 0 {
 			t.Fatalf("kp %g: no mode between 2.5 and 7 Hz", kp)
 		}
-		o, err := rig.Execute(10, sim.Options{Seed: 1})
+		o, err := v.Run(10, sim.Options{Seed: 1})
 		if err != nil {
 			t.Fatal(err)
 		}

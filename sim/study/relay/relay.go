@@ -1,4 +1,7 @@
-package study
+// Package relay runs the relay feedback test on one PID block of a rig's
+// controller and turns the ultimate gain and period it finds into PI and
+// PID gains by the Ziegler-Nichols and Tyreus-Luyben rules.
+package relay
 
 import (
 	"errors"
@@ -11,6 +14,7 @@ import (
 
 	"teeter/control"
 	"teeter/sim"
+	"teeter/sim/rig"
 )
 
 // The relay feedback test (Astrom and Hagglund, Automatica 20(5), 1984):
@@ -81,8 +85,8 @@ func TuningRules(ku, pu float64) []PIDGains {
 	}
 }
 
-// RelaySpec is a relay test on one PID block of the rig's controller.
-type RelaySpec struct {
+// Spec is a relay test on one PID block of the rig's controller.
+type Spec struct {
 	Block string
 	// Amplitude is the relay's d, in the block's output units (default:
 	// a quarter of its output range, which a relay test needs to be
@@ -95,8 +99,8 @@ type RelaySpec struct {
 	Seed     uint64
 }
 
-// RelayResult is what the test found.
-type RelayResult struct {
+// Result is what the test found.
+type Result struct {
 	Block     string     `json:"block"`
 	Amplitude float64    `json:"relay_amplitude"`
 	ErrorAmp  float64    `json:"error_amplitude"`
@@ -110,14 +114,14 @@ type RelayResult struct {
 // it crosses its whole output range within a millionth of the error.
 const relayGain = 1e6
 
-// RelayTest swaps the block's PID for a relay of the block's own error
+// Test swaps the block's PID for a relay of the block's own error
 // (setpoint minus measurement), runs the robot and measures the limit
 // cycle. The relay is the same PID with gain 1e6, no integral or
 // derivative and limits Bias -/+ Amplitude, so everything else in the graph
 // is as it was. A robot that falls during the test gives an error.
-func (r *Rig) RelayTest(spec RelaySpec) (RelayResult, error) {
+func Test(r *rig.Rig, spec Spec) (Result, error) {
 	if r.Spec == nil {
-		return RelayResult{}, errors.New("relay test: the robot has no controller graph")
+		return Result{}, errors.New("relay test: the robot has no controller graph")
 	}
 	k := slices.IndexFunc(r.Spec.Blocks, func(b *control.BlockSpec) bool { return b.Name == spec.Block })
 	if k < 0 || r.Spec.Blocks[k].Kind != "pid" {
@@ -127,14 +131,14 @@ func (r *Rig) RelayTest(spec RelaySpec) (RelayResult, error) {
 				pids = append(pids, b.Name)
 			}
 		}
-		return RelayResult{}, fmt.Errorf("relay test: %q is not a pid block (pid blocks: %v)", spec.Block, pids)
+		return Result{}, fmt.Errorf("relay test: %q is not a pid block (pid blocks: %v)", spec.Block, pids)
 	}
-	old := r.Spec.Blocks[k]
 	d := spec.Amplitude
 	if !(d > 0) {
+		old := r.Spec.Blocks[k]
 		lo, hi := paramValue(old, "min", math.NaN()), paramValue(old, "max", math.NaN())
 		if math.IsNaN(lo) || math.IsNaN(hi) || !(hi > lo) {
-			return RelayResult{}, fmt.Errorf("relay test: block %s has no output limits; give the relay amplitude", spec.Block)
+			return Result{}, fmt.Errorf("relay test: block %s has no output limits; give the relay amplitude", spec.Block)
 		}
 		d = (hi - lo) / 4
 	}
@@ -144,6 +148,34 @@ func (r *Rig) RelayTest(spec RelaySpec) (RelayResult, error) {
 	if spec.Skip <= 0 {
 		spec.Skip = spec.Duration / 3
 	}
+	o, err := withRelay(r, k, spec.Bias, d).Run(spec.Duration, sim.Options{Seed: spec.Seed})
+	if err != nil {
+		return Result{}, fmt.Errorf("relay test on %s: %v", spec.Block, err)
+	}
+	if o.Summary.Fell {
+		return Result{}, fmt.Errorf("relay test on %s: the robot fell at %.2f s (%s); try a smaller amplitude than %g", spec.Block, o.Summary.FallTime, o.Summary.FallReason, d)
+	}
+	t, p := o.Rec.Column("time"), o.Rec.Column(spec.Block+".p")
+	if p == nil {
+		return Result{}, fmt.Errorf("relay test: no recording of %s.p", spec.Block)
+	}
+	e := make([]float64, len(p))
+	for i, v := range p {
+		e[i] = v / relayGain
+	}
+	a, pu, cycles, err := LimitCycle(t, e, spec.Skip)
+	if err != nil {
+		return Result{}, fmt.Errorf("relay test on %s: %v", spec.Block, err)
+	}
+	ku := UltimateGain(d, a)
+	return Result{Block: spec.Block, Amplitude: d, ErrorAmp: a, Period: pu, Ku: ku, Cycles: cycles, Rules: TuningRules(ku, pu)}, nil
+}
+
+// withRelay is the rig with its k-th block, a PID, made a relay switching
+// between bias-d and bias+d. Gains of other blocks still apply; the
+// relay's own are dropped.
+func withRelay(r *rig.Rig, k int, bias, d float64) *rig.Rig {
+	old := r.Spec.Blocks[k]
 	relay := *old
 	relay.Options = maps.Clone(old.Options)
 	relay.Options["anti_windup"] = "none"
@@ -162,44 +194,23 @@ func (r *Rig) RelayTest(spec RelaySpec) (RelayResult, error) {
 	set("ki", 0)
 	set("kd", 0)
 	set("b", 1)
-	set("min", spec.Bias-d)
-	set("max", spec.Bias+d)
+	set("min", bias-d)
+	set("max", bias+d)
 	set("tt", 0)
-	spec2 := *r.Spec
-	spec2.Blocks = slices.Clone(r.Spec.Blocks)
-	spec2.Blocks[k] = &relay
-	test := &Rig{Robot: r.Robot, Spec: &spec2}
-	// Gains of other blocks still apply; the relay's own are dropped.
+	spec := *r.Spec
+	spec.Blocks = slices.Clone(r.Spec.Blocks)
+	spec.Blocks[k] = &relay
+	test := &rig.Rig{Robot: r.Robot, Spec: &spec}
 	if r.Gains != nil {
 		gs := control.GainSet{Rate: r.Gains.Rate}
 		for _, g := range r.Gains.Gains {
-			if !strings.HasPrefix(g.Path, spec.Block+".") {
+			if !strings.HasPrefix(g.Path, old.Name+".") {
 				gs.Gains = append(gs.Gains, g)
 			}
 		}
 		test.Gains = &gs
 	}
-	o, err := test.Execute(spec.Duration, sim.Options{Seed: spec.Seed})
-	if err != nil {
-		return RelayResult{}, fmt.Errorf("relay test on %s: %v", spec.Block, err)
-	}
-	if o.Summary.Fell {
-		return RelayResult{}, fmt.Errorf("relay test on %s: the robot fell at %.2f s (%s); try a smaller amplitude than %g", spec.Block, o.Summary.FallTime, o.Summary.FallReason, d)
-	}
-	t, p := o.Rec.Column("time"), o.Rec.Column(spec.Block+".p")
-	if p == nil {
-		return RelayResult{}, fmt.Errorf("relay test: no recording of %s.p", spec.Block)
-	}
-	e := make([]float64, len(p))
-	for i, v := range p {
-		e[i] = v / relayGain
-	}
-	a, pu, cycles, err := LimitCycle(t, e, spec.Skip)
-	if err != nil {
-		return RelayResult{}, fmt.Errorf("relay test on %s: %v", spec.Block, err)
-	}
-	ku := UltimateGain(d, a)
-	return RelayResult{Block: spec.Block, Amplitude: d, ErrorAmp: a, Period: pu, Ku: ku, Cycles: cycles, Rules: TuningRules(ku, pu)}, nil
+	return test
 }
 
 func paramValue(b *control.BlockSpec, name string, def float64) float64 {

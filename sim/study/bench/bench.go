@@ -1,4 +1,7 @@
-package study
+// Package bench measures how fast teeter runs on this machine, for
+// `teeter bench`: one run's steps per second, a sweep's scaling from one to
+// two workers, and the time of a margin search.
+package bench
 
 import (
 	"context"
@@ -7,10 +10,13 @@ import (
 
 	"teeter/models"
 	"teeter/sim"
+	"teeter/sim/rig"
+	"teeter/sim/study/margin"
+	"teeter/sim/study/sweep"
 )
 
-// SpeedReport is what MeasureSpeed found, for `teeter bench`.
-type SpeedReport struct {
+// Report is what Measure found, for `teeter bench`.
+type Report struct {
 	Robot string `json:"robot"`
 	// StepsPerSecond is physics steps (with controller ticks) per wall
 	// second, one run on one core.
@@ -27,10 +33,10 @@ type SpeedReport struct {
 	MarginRuns    int     `json:"margin_runs"`
 }
 
-// MeasureSpeed times a 5 s run, a sweep of runs seconds-long points on one
+// Measure times a 5 s run, a sweep of runs seconds-long points on one
 // and on two workers, and a margin search, on the rig.
-func (r *Rig) MeasureSpeed(ctx context.Context, runs int) (SpeedReport, error) {
-	rep := SpeedReport{Robot: r.Robot.Name, SweepRuns: runs}
+func Measure(ctx context.Context, r *rig.Rig, runs int) (Report, error) {
+	rep := Report{Robot: r.Robot.Name, SweepRuns: runs}
 	p, _, err := r.Build(sim.Options{})
 	if err != nil {
 		return rep, err
@@ -42,13 +48,13 @@ func (r *Rig) MeasureSpeed(ctx context.Context, runs int) (SpeedReport, error) {
 	}
 	wall := time.Since(start).Seconds()
 	rep.RealtimeFactor = p.Time() / wall
-	rep.StepsPerSecond = p.Time() * 1000 / wall // default physics rate 1 kHz
-	spec := SweepSpec{Axes: []Axis{{Path: "actuators.backlash", From: 0, To: 0.002, Steps: runs}}, Metrics: []string{"peak_tilt"},
+	rep.StepsPerSecond = p.Time() * p.PhysicsRate() / wall
+	spec := sweep.Spec{Axes: []sweep.Axis{{Path: "actuators.backlash", From: 0, To: 0.002, Steps: runs}}, Metrics: []string{"peak_tilt"},
 		Duration: 1, Shoves: []sim.Shove{{At: 0.3, Impulse: models.Vec2{X: 0.5}}}}
 	for _, w := range []int{1, 2} {
 		spec.Workers = w
 		start := time.Now()
-		if _, err := r.Sweep(ctx, spec); err != nil {
+		if _, err := sweep.Run(ctx, r, spec); err != nil {
 			return rep, err
 		}
 		if w == 1 {
@@ -58,12 +64,8 @@ func (r *Rig) MeasureSpeed(ctx context.Context, runs int) (SpeedReport, error) {
 		}
 	}
 	rep.SweepSpeedup = rep.Sweep1 / rep.Sweep2
-	dirs := []string{"left", "right"}
-	if r.Robot.Plane != models.Frontal {
-		dirs = []string{"back", "forward"}
-	}
 	start = time.Now()
-	res, err := r.Margin(ctx, MarginSpec{Dirs: dirs})
+	res, err := margin.Find(ctx, r, margin.Spec{})
 	if err != nil {
 		return rep, err
 	}

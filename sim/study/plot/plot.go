@@ -1,4 +1,7 @@
-package study
+// Package plot draws sweep results: a line over the parameter of a 1-D
+// sweep, a heat map over the two of a 2-D one. The command line and the
+// window both use it.
+package plot
 
 import (
 	"fmt"
@@ -14,13 +17,14 @@ import (
 	"gonum.org/v1/plot/vg"
 
 	"teeter/models"
+	"teeter/sim/study/sweep"
 )
 
-// PlotSweep draws one metric of a sweep into file, PNG or SVG by its
+// Sweep draws one metric of a sweep into file, PNG or SVG by its
 // extension: a line over the parameter for a 1-D sweep, a heat map over
 // the two parameters for a 2-D one. Failed points are left out (a gap in
 // the line, a grey cell in the map).
-func PlotSweep(s *SweepResult, metric, file string) error {
+func Sweep(s *sweep.Result, metric, file string) error {
 	format := strings.TrimPrefix(strings.ToLower(filepath.Ext(file)), ".")
 	if format != "png" && format != "svg" {
 		return fmt.Errorf("plot %s: want a .png or .svg file", file)
@@ -35,7 +39,7 @@ func PlotSweep(s *SweepResult, metric, file string) error {
 	})
 }
 
-func sweepPlot(s *SweepResult, metric, format string) (wt io.WriterTo, err error) {
+func sweepPlot(s *sweep.Result, metric, format string) (wt io.WriterTo, err error) {
 	defer func() {
 		if e := recover(); e != nil { // the plot library panics on data it cannot draw
 			wt, err = nil, fmt.Errorf("cannot draw: %v", e)
@@ -107,7 +111,7 @@ type sweepGrid struct {
 	z      [][]float64 // [row][col]
 }
 
-func newSweepGrid(s *SweepResult, mi int) (*sweepGrid, error) {
+func newSweepGrid(s *sweep.Result, mi int) (*sweepGrid, error) {
 	xIndex, yIndex := map[float64]int{}, map[float64]int{}
 	g := &sweepGrid{}
 	for _, pt := range s.Points {

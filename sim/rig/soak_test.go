@@ -1,4 +1,4 @@
-package study
+package rig
 
 import (
 	"errors"
@@ -36,11 +36,11 @@ type soak struct {
 
 func newSoak(tb testing.TB, duration float64) *soak {
 	tb.Helper()
-	rig, err := LoadRig("builtin:frontal", "", "")
+	r, err := Load("builtin:frontal", "", "")
 	if err != nil {
 		tb.Fatal(err)
 	}
-	s := &soak{rig: rig, train: sim.RandomShoves(soakSeed, 2, duration, soakMeanInterval, soakMinImpulse, soakMaxImpulse, nil)}
+	s := &soak{rig: r, train: sim.RandomShoves(soakSeed, 2, duration, soakMeanInterval, soakMinImpulse, soakMaxImpulse, nil)}
 	if err := s.start(0); err != nil {
 		tb.Fatal(err)
 	}
@@ -56,13 +56,8 @@ func (s *soak) start(at float64) error {
 			shoves = append(shoves, sh)
 		}
 	}
-	g, err := s.rig.Controller()
-	if err != nil {
-		return err
-	}
-	p, err := sim.New(s.rig.Robot, g, sim.Options{
-		ControlRate:    g.Rate(),
-		RecordCapacity: int(soakRecordSeconds * g.Rate()),
+	p, g, err := s.rig.Build(sim.Options{
+		RecordCapacity: int(soakRecordSeconds * s.rig.ControlRate()),
 		Shoves:         shoves,
 	})
 	if err != nil {

@@ -1,4 +1,4 @@
-package study
+package metric
 
 import (
 	"math"
@@ -38,7 +38,7 @@ func TestLogDecrementOfKnownDampedOscillation(t *testing.T) {
 			ts[i] = float64(i) * dt
 			y[i] = math.Exp(-zeta*wn*ts[i]) * math.Cos(wd*ts[i])
 		}
-		got := LogDecrement(ts, y)
+		got := LogDecrement(y)
 		if math.Abs(got-zeta)/zeta > 0.03 {
 			t.Errorf("zeta %g: log decrement gives %g", zeta, got)
 		}
@@ -84,16 +84,16 @@ func TestStepResponseMetrics(t *testing.T) {
 
 func TestMetricRegistry(t *testing.T) {
 	seen := map[string]bool{}
-	for _, m := range Metrics() {
+	for _, m := range All() {
 		if m.Name == "" || m.Meaning == "" || m.Eval == nil || seen[m.Name] {
 			t.Errorf("metric %+v is incomplete or repeated", m)
 		}
 		seen[m.Name] = true
-		if _, err := LookupMetric(m.Name); err != nil {
+		if _, err := Lookup(m.Name); err != nil {
 			t.Error(err)
 		}
 	}
-	if _, err := LookupMetric("no_such"); err == nil {
+	if _, err := Lookup("no_such"); err == nil {
 		t.Error("an unknown metric was found")
 	}
 }

@@ -1,4 +1,4 @@
-package study
+package sweep_test
 
 import (
 	"bytes"
@@ -7,11 +7,15 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"teeter/sim/rig"
+	"teeter/sim/study/plot"
+	"teeter/sim/study/sweep"
 )
 
-func pendulumSweep(workers int, shard Shard) SweepSpec {
-	return SweepSpec{
-		Axes:     []Axis{{Path: "actuators.backlash", From: 0, To: 0.02, Steps: 3}, {Path: "ankle_loop.kp", From: 2, To: 6, Steps: 2}},
+func pendulumSweep(workers int, shard sweep.Shard) sweep.Spec {
+	return sweep.Spec{
+		Axes:     []sweep.Axis{{Path: "actuators.backlash", From: 0, To: 0.02, Steps: 3}, {Path: "ankle_loop.kp", From: 2, To: 6, Steps: 2}},
 		Metrics:  []string{"peak_tilt", "osc_amplitude", "effort"},
 		Duration: 1,
 		Seed:     7,
@@ -20,7 +24,7 @@ func pendulumSweep(workers int, shard Shard) SweepSpec {
 	}
 }
 
-func csvBytes(t *testing.T, r *SweepResult) []byte {
+func csvBytes(t *testing.T, r *sweep.Result) []byte {
 	t.Helper()
 	var b bytes.Buffer
 	if err := r.WriteCSV(&b); err != nil {
@@ -30,15 +34,15 @@ func csvBytes(t *testing.T, r *SweepResult) []byte {
 }
 
 func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
-	rig, err := LoadRig("builtin:pendulum", "", "")
+	r, err := rig.Load("builtin:pendulum", "", "")
 	if err != nil {
 		t.Fatal(err)
 	}
-	one, err := rig.Sweep(context.Background(), pendulumSweep(1, Shard{}))
+	one, err := sweep.Run(context.Background(), r, pendulumSweep(1, sweep.Shard{}))
 	if err != nil {
 		t.Fatal(err)
 	}
-	two, err := rig.Sweep(context.Background(), pendulumSweep(2, Shard{}))
+	two, err := sweep.Run(context.Background(), r, pendulumSweep(2, sweep.Shard{}))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -55,11 +59,11 @@ func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
 	if one.Points[0].Metrics[2] == one.Points[1].Metrics[2] && one.Points[0].Metrics[2] == one.Points[4].Metrics[2] {
 		t.Errorf("effort did not change with kp or backlash: %v", one.Points)
 	}
-	s0, err := rig.Sweep(context.Background(), pendulumSweep(2, Shard{0, 2}))
+	s0, err := sweep.Run(context.Background(), r, pendulumSweep(2, sweep.Shard{0, 2}))
 	if err != nil {
 		t.Fatal(err)
 	}
-	s1, err := rig.Sweep(context.Background(), pendulumSweep(2, Shard{1, 2}))
+	s1, err := sweep.Run(context.Background(), r, pendulumSweep(2, sweep.Shard{1, 2}))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -68,8 +72,8 @@ func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
 	}
 	// Through the files, as a job array would do it.
 	dir := t.TempDir()
-	var parts []*SweepResult
-	for i, s := range []*SweepResult{s1, s0} {
+	var parts []*sweep.Result
+	for i, s := range []*sweep.Result{s1, s0} {
 		name := filepath.Join(dir, "shard"+string(rune('0'+i))+".csv")
 		if err := os.WriteFile(name, csvBytes(t, s), 0o644); err != nil {
 			t.Fatal(err)
@@ -78,26 +82,26 @@ func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		r, err := ReadSweepCSV(name, f)
+		r, err := sweep.ReadCSV(name, f)
 		f.Close()
 		if err != nil {
 			t.Fatal(err)
 		}
 		parts = append(parts, r)
 	}
-	merged, missing, err := MergeSweeps(parts...)
+	merged, missing, err := sweep.Merge(parts...)
 	if err != nil || len(missing) > 0 {
 		t.Fatalf("merge: %v, missing %v", err, missing)
 	}
 	if m := csvBytes(t, merged); !bytes.Equal(m, a) {
 		t.Fatalf("merged shards differ from the whole sweep:\n%s\n%s", m, a)
 	}
-	if _, missing, _ := MergeSweeps(parts[0]); len(missing) != 3 {
+	if _, missing, _ := sweep.Merge(parts[0]); len(missing) != 3 {
 		t.Errorf("one shard alone: missing %v, want 3 points", missing)
 	}
 	for _, ext := range []string{".png", ".svg"} {
 		file := filepath.Join(dir, "heat"+ext)
-		if err := PlotSweep(merged, "osc_amplitude", file); err != nil {
+		if err := plot.Sweep(merged, "osc_amplitude", file); err != nil {
 			t.Fatal(err)
 		}
 		if st, err := os.Stat(file); err != nil || st.Size() < 100 {
@@ -107,14 +111,14 @@ func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
 }
 
 func TestSweepFailedPointAndCancel(t *testing.T) {
-	rig, err := LoadRig("builtin:pendulum", "", "")
+	r, err := rig.Load("builtin:pendulum", "", "")
 	if err != nil {
 		t.Fatal(err)
 	}
 	// A negative backlash is refused by the model: that point fails, the
 	// others run.
-	spec := SweepSpec{Axes: []Axis{{Path: "actuators.backlash", From: -0.01, To: 0.01, Steps: 3}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 2}
-	res, err := rig.Sweep(context.Background(), spec)
+	spec := sweep.Spec{Axes: []sweep.Axis{{Path: "actuators.backlash", From: -0.01, To: 0.01, Steps: 3}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 2}
+	res, err := sweep.Run(context.Background(), r, spec)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -127,26 +131,26 @@ func TestSweepFailedPointAndCancel(t *testing.T) {
 	}
 	// Cancel after the first point: what is done is kept and still reads.
 	ctx, cancel := context.WithCancel(context.Background())
-	spec = SweepSpec{Axes: []Axis{{Path: "actuators.backlash", From: 0, To: 0.01, Steps: 20}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 1,
+	spec = sweep.Spec{Axes: []sweep.Axis{{Path: "actuators.backlash", From: 0, To: 0.01, Steps: 20}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 1,
 		Progress: func(done, total int) { cancel() }}
-	res, err = rig.Sweep(ctx, spec)
+	res, err = sweep.Run(ctx, r, spec)
 	if err != context.Canceled {
 		t.Fatalf("cancelled sweep: err %v", err)
 	}
 	if len(res.Points) == 0 || len(res.Points) >= 20 {
 		t.Fatalf("cancelled sweep kept %d points", len(res.Points))
 	}
-	back, err := ReadSweepCSV("cancelled", bytes.NewReader(csvBytes(t, res)))
+	back, err := sweep.ReadCSV("cancelled", bytes.NewReader(csvBytes(t, res)))
 	if err != nil || len(back.Points) != len(res.Points) {
 		t.Fatalf("cancelled sweep's CSV: %v", err)
 	}
-	if _, err := rig.Sweep(context.Background(), SweepSpec{Axes: []Axis{{Path: "no.such", Steps: 2}}, Metrics: []string{"peak_tilt"}, Duration: 1}); err == nil {
+	if _, err := sweep.Run(context.Background(), r, sweep.Spec{Axes: []sweep.Axis{{Path: "no.such", Steps: 2}}, Metrics: []string{"peak_tilt"}, Duration: 1}); err == nil {
 		t.Error("an unknown parameter path was accepted")
 	}
 }
 
 func TestParseAxisAndShard(t *testing.T) {
-	a, err := ParseAxis("actuators.backlash=0:2mm:9")
+	a, err := sweep.ParseAxis("actuators.backlash=0:2mm:9")
 	if err != nil || a.Path != "actuators.backlash" || a.From != 0 || a.To != 0.002 || a.Steps != 9 {
 		t.Fatalf("%+v %v", a, err)
 	}
@@ -154,16 +158,16 @@ func TestParseAxisAndShard(t *testing.T) {
 		t.Errorf("last value %g", v)
 	}
 	for _, bad := range []string{"x", "p=1:2", "p=a:2:3", "p=1:2:0", "=1:2:3"} {
-		if _, err := ParseAxis(bad); err == nil {
-			t.Errorf("ParseAxis(%q) accepted", bad)
+		if _, err := sweep.ParseAxis(bad); err == nil {
+			t.Errorf("sweep.ParseAxis(%q) accepted", bad)
 		}
 	}
-	if s, err := ParseShard("3/16"); err != nil || s != (Shard{3, 16}) {
+	if s, err := sweep.ParseShard("3/16"); err != nil || s != (sweep.Shard{3, 16}) {
 		t.Errorf("%v %v", s, err)
 	}
 	for _, bad := range []string{"16/16", "-1/2", "1", "a/b", "0/0"} {
-		if _, err := ParseShard(bad); err == nil {
-			t.Errorf("ParseShard(%q) accepted", bad)
+		if _, err := sweep.ParseShard(bad); err == nil {
+			t.Errorf("sweep.ParseShard(%q) accepted", bad)
 		}
 	}
 }

@@ -1,7 +1,6 @@
-package study
+package relay
 
 import (
-	"context"
 	"math"
 	"testing"
 )
@@ -95,27 +94,5 @@ func TestTuningRuleTables(t *testing.T) {
 		if !close(r.Ki, w[0]/w[1]) || !close(r.Kd, w[0]*w[2]) {
 			t.Errorf("%s: ki %g kd %g", r.Rule, r.Ki, r.Kd)
 		}
-	}
-}
-
-func TestNelderMeadRosenbrock(t *testing.T) {
-	// Rosenbrock's valley (Computer Journal 3, 1960) has its minimum 0 at
-	// (1, 1); Nelder-Mead reaches it from the classic start (-1.2, 1).
-	f := func(x []float64) float64 {
-		a, b := 1-x[0], x[1]-x[0]*x[0]
-		return a*a + 100*b*b
-	}
-	best := []float64{math.NaN(), math.NaN()}
-	bestF := math.Inf(1)
-	g := func(x []float64) float64 {
-		v := f(x)
-		if v < bestF {
-			bestF, best = v, append([]float64(nil), x...)
-		}
-		return v
-	}
-	NelderMead(context.Background(), g, []float64{-1.2, 1}, 0.5, 2000)
-	if math.Abs(best[0]-1) > 1e-3 || math.Abs(best[1]-1) > 1e-3 {
-		t.Errorf("minimum at %v (f %g), want (1, 1)", best, bestF)
 	}
 }

@@ -1,4 +1,4 @@
-package study
+package rig_test
 
 import (
 	"errors"
@@ -7,6 +7,8 @@ import (
 
 	"teeter/models"
 	"teeter/sim"
+	"teeter/sim/rig"
+	"teeter/sim/study/metric"
 )
 
 // The demo checks: the built-in robots with their built-in controllers do
@@ -14,13 +16,13 @@ import (
 
 const deg = math.Pi / 180
 
-func loadDemo(t *testing.T, model, controller string) *Rig {
+func loadDemo(t *testing.T, model, controller string) *rig.Rig {
 	t.Helper()
-	rig, err := LoadRig(model, controller, "")
+	r, err := rig.Load(model, controller, "")
 	if err != nil {
 		t.Fatal(err)
 	}
-	return rig
+	return r
 }
 
 // run steps a plant to the end or a fall; a blow-up fails the test.
@@ -38,18 +40,19 @@ func TestDemoRobotsStand(t *testing.T) {
 	// steady commands stay off full PWM (common practice: a loop that sits
 	// at its limit in steady state is mistuned).
 	for _, name := range []string{"frontal", "sagittal", "pendulum"} {
-		rig := loadDemo(t, "builtin:"+name, "")
-		p, s, err := rig.Run(20, sim.Options{Seed: 1})
+		r := loadDemo(t, "builtin:"+name, "")
+		o, err := r.Run(20, sim.Options{Seed: 1})
 		if err != nil {
 			t.Fatal(err)
 		}
+		s := o.Summary
 		t.Logf("%s: fell %v (%s at %.2f s), peak tilt %.3f deg, final %.3f deg", name, s.Fell, s.FallReason, s.FallTime, s.PeakTilt, s.FinalTilt)
 		if s.Fell {
 			t.Errorf("%s fell at %.2f s: %s", name, s.FallTime, s.FallReason)
 			continue
 		}
-		for _, a := range models.ActuatorNames(rig.Robot) {
-			c := Window(p.Recorder(), a+".command", 15, 20)
+		for _, a := range models.ActuatorNames(r.Robot) {
+			c := Window(o.Rec, a+".command", 15, 20)
 			t.Logf("  %s: last 5 s command max |%.2f|, mean change per tick %.3f", a, MaxAbs(c), MeanAbsChange(c))
 			if MaxAbs(c) > 0.9 {
 				t.Errorf("%s: %s sits at %.2f of full PWM in steady state", name, a, MaxAbs(c))
@@ -59,15 +62,16 @@ func TestDemoRobotsStand(t *testing.T) {
 }
 
 func TestDemoFrontalNoiseAndShoves(t *testing.T) {
-	rig := loadDemo(t, "builtin:frontal", "")
-	rig.Robot = rig.Robot.Clone()
-	if err := models.SetParam(rig.Robot, "sensors.noise", 1); err != nil {
+	r := loadDemo(t, "builtin:frontal", "")
+	r.Robot = r.Robot.Clone()
+	if err := models.SetParam(r.Robot, "sensors.noise", 1); err != nil {
 		t.Fatal(err)
 	}
-	_, s, err := rig.Run(30, sim.Options{Seed: 7})
+	o, err := r.Run(30, sim.Options{Seed: 7})
 	if err != nil {
 		t.Fatal(err)
 	}
+	s := o.Summary
 	t.Logf("30 s with noise: fell %v, peak tilt %.3f deg", s.Fell, s.PeakTilt)
 	if s.Fell {
 		t.Fatalf("fell with sensor noise at %.2f s: %s", s.FallTime, s.FallReason)
@@ -80,7 +84,7 @@ func TestDemoFrontalNoiseAndShoves(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		p, _, err := rig.Build(sim.Options{Seed: 3, Shoves: []sim.Shove{sh}})
+		p, _, err := r.Build(sim.Options{Seed: 3, Shoves: []sim.Shove{sh}})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -109,21 +113,21 @@ func TestDemoFrontalBacklashLimitCycle(t *testing.T) {
 	// e.g. Ogata, Modern Control Engineering, from memory). Same gains,
 	// backlash 0 and 0.4 mm on the hip and ankle screws.
 	pp := func(backlash float64) float64 {
-		rig := loadDemo(t, "builtin:frontal", "")
-		rig.Robot = rig.Robot.Clone()
+		r := loadDemo(t, "builtin:frontal", "")
+		r.Robot = r.Robot.Clone()
 		for _, a := range []string{"hip_left", "hip_right", "ankle_left", "ankle_right"} {
-			if err := models.SetParam(rig.Robot, "actuators."+a+".backlash", backlash); err != nil {
+			if err := models.SetParam(r.Robot, "actuators."+a+".backlash", backlash); err != nil {
 				t.Fatal(err)
 			}
 		}
-		p, s, err := rig.Run(20, sim.Options{Seed: 1})
+		o, err := r.Run(20, sim.Options{Seed: 1})
 		if err != nil {
 			t.Fatal(err)
 		}
-		if s.Fell {
-			t.Fatalf("backlash %g m: fell at %.2f s", backlash, s.FallTime)
+		if o.Summary.Fell {
+			t.Fatalf("backlash %g m: fell at %.2f s", backlash, o.Summary.FallTime)
 		}
-		return PeakToPeak(Window(p.Recorder(), "torso_tilt", 15, 20)) / deg
+		return PeakToPeak(Window(o.Rec, "torso_tilt", 15, 20)) / deg
 	}
 	tight, slack := pp(0), pp(0.4e-3)
 	t.Logf("torso tilt peak-to-peak over the last 5 s: %.3f deg without backlash, %.3f deg with 0.4 mm", tight, slack)
@@ -136,8 +140,8 @@ func TestDemoFrontalBacklashLimitCycle(t *testing.T) {
 }
 
 func TestDemoFrontalStepping(t *testing.T) {
-	rig := loadDemo(t, "builtin:frontal", "builtin:frontal_stepping")
-	p, g, err := rig.Build(sim.Options{Seed: 1})
+	r := loadDemo(t, "builtin:frontal", "builtin:frontal_stepping")
+	p, g, err := r.Build(sim.Options{Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -237,12 +241,12 @@ func TestDemoSagittalBallastDampsRocking(t *testing.T) {
 	// Thomson, Theory of Vibration, from memory) must be larger with the
 	// ballast loop working than with its gain at zero.
 	zeta := func(ballastKp float64) (float64, bool) {
-		rig := loadDemo(t, "builtin:sagittal", "")
+		r := loadDemo(t, "builtin:sagittal", "")
 		sh, err := sim.ParseShove("at=2s,impulse=2N*s,dir=back")
 		if err != nil {
 			t.Fatal(err)
 		}
-		p, g, err := rig.Build(sim.Options{Seed: 1, Shoves: []sim.Shove{sh}})
+		p, g, err := r.Build(sim.Options{Seed: 1, Shoves: []sim.Shove{sh}})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -255,8 +259,8 @@ func TestDemoSagittalBallastDampsRocking(t *testing.T) {
 		if f, fell := p.Fall(); fell {
 			t.Fatalf("ballast kp %g: fell at %.2f s", ballastKp, f.Time)
 		}
-		z, ok := DampingRatio(Window(p.Recorder(), "torso_tilt", 2, 8), 0.05*deg)
-		return z, ok
+		z := metric.LogDecrement(Window(p.Recorder(), "torso_tilt", 2, 8))
+		return z, !math.IsNaN(z)
 	}
 	// With the ballast on the rocking may die within a cycle, leaving no
 	// second peak above the floor: that is the most damping there is.
@@ -274,28 +278,78 @@ func TestDemoSagittalBallastDampsRocking(t *testing.T) {
 	}
 }
 
-func TestDampingRatioOfKnownDecay(t *testing.T) {
-	// x = exp(-zeta*wn*t) cos(wd*t), wd = wn*sqrt(1-zeta^2): the estimate
-	// must give back zeta (the definition of the logarithmic decrement).
-	for _, want := range []float64{0.02, 0.1, 0.3} {
-		wn := 2 * math.Pi * 3
-		wd := wn * math.Sqrt(1-want*want)
-		var v []float64
-		for k := 0; k < 2000; k++ {
-			tt := float64(k) / 1000
-			v = append(v, math.Exp(-want*wn*tt)*math.Cos(wd*tt))
-		}
-		got, ok := DampingRatio(v, 1e-6)
-		if !ok || math.Abs(got-want) > 0.1*want+0.005 {
-			t.Errorf("zeta %g: got %g (%v)", want, got, ok)
-		}
-	}
-}
-
 func lastOf(rec *sim.Recorder, column string) float64 {
 	v := rec.Column(column)
 	if len(v) == 0 {
 		return math.NaN()
 	}
 	return v[len(v)-1]
+}
+
+// Measures of a recorded run used by the demo checks: what a builder reads
+// off the trace of a built-in robot standing, shoved or stepping.
+
+// Window is the part of a recorded column with time in [From, To).
+func Window(rec *sim.Recorder, column string, from, to float64) []float64 {
+	t, v := rec.Column("time"), rec.Column(column)
+	var out []float64
+	for i := range t {
+		if i < len(v) && t[i] >= from && t[i] < to {
+			out = append(out, v[i])
+		}
+	}
+	return out
+}
+
+// PeakToPeak is the largest value less the smallest, 0 for no values.
+func PeakToPeak(v []float64) float64 {
+	if len(v) == 0 {
+		return 0
+	}
+	lo, hi := v[0], v[0]
+	for _, x := range v {
+		lo, hi = math.Min(lo, x), math.Max(hi, x)
+	}
+	return hi - lo
+}
+
+// MeanAbsChange is the mean of |v[i] - v[i-1]|: how much a command jumps
+// from one controller tick to the next.
+func MeanAbsChange(v []float64) float64 {
+	if len(v) < 2 {
+		return 0
+	}
+	s := 0.0
+	for i := 1; i < len(v); i++ {
+		s += math.Abs(v[i] - v[i-1])
+	}
+	return s / float64(len(v)-1)
+}
+
+// MaxAbs is the largest |v[i]|.
+func MaxAbs(v []float64) float64 {
+	m := 0.0
+	for _, x := range v {
+		m = math.Max(m, math.Abs(x))
+	}
+	return m
+}
+
+// SettledAt is the first time from which |column| stays within band to the
+// end of the recording, looking only at rows at or after from; ok is false
+// if it never settles there.
+func SettledAt(rec *sim.Recorder, column string, from, band float64) (at float64, ok bool) {
+	t, v := rec.Column("time"), rec.Column(column)
+	at, ok = math.NaN(), false
+	for i := range t {
+		if t[i] < from || i >= len(v) {
+			continue
+		}
+		if math.Abs(v[i]) > band {
+			ok = false
+		} else if !ok {
+			at, ok = t[i], true
+		}
+	}
+	return at, ok
 }

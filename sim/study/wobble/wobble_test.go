@@ -1,9 +1,11 @@
-package study
+package wobble
 
 import (
 	"math"
 	"math/cmplx"
 	"testing"
+
+	"teeter/sim/study/relay"
 )
 
 // backlashFundamental runs a sine of amplitude a through backlash of the
@@ -105,7 +107,7 @@ func TestBacklashCycleAgainstSimulation(t *testing.T) {
 		y += dt * v
 		ts, es = append(ts, float64(i)*dt), append(es, x)
 	}
-	amp, period, cycles, err := LimitCycle(ts, es, 30)
+	amp, period, cycles, err := relay.LimitCycle(ts, es, 30)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,4 +1,8 @@
-package study
+// Package wobble predicts the limit cycle that backlash in a lead screw's
+// loop makes, by the describing function of backlash and harmonic balance
+// on the loop's linear part measured from the rig, and runs the rig with
+// the backlash to set the prediction beside the simulation.
+package wobble
 
 import (
 	"errors"
@@ -8,10 +12,11 @@ import (
 	"slices"
 	"sort"
 
-	"gonum.org/v1/gonum/mat"
-
 	"teeter/models"
 	"teeter/sim"
+	"teeter/sim/rig"
+	"teeter/sim/study/metric"
+	"teeter/sim/study/modes"
 )
 
 // BacklashDF is the describing function of backlash of total play width
@@ -72,22 +77,22 @@ func BacklashCycle(g func(w float64) complex128, width, wlo, whi float64) (a, w,
 // output then follows y = S d with S = 1/(1 + G), where G is everything the
 // output's motion does to the screw (sensors, controller, motor) in the
 // sign convention screw = -G y of BacklashCycle. The step response to the
-// slip is realised by the eigensystem realisation algorithm (linearise.go),
+// slip is realised by the eigensystem realisation algorithm (package modes),
 // S(jw) read off the model, and G = 1/S - 1.
 
-// WobbleSpec asks for the backlash limit cycle of some screws.
-type WobbleSpec struct {
+// Spec asks for the backlash limit cycle of some screws.
+type Spec struct {
 	Actuators []string // lead screws given the backlash
 	Backlash  float64  // total play, m (or rad for rotary screws)
 	Duration  float64  // s of simulation (default 40)
 	Window    float64  // s at the end of it measured (default half the duration)
 	Seed      uint64
-	Lin       LineariseOptions // for the measurement of the linear part (Span default 3 s)
+	Lin       modes.Options // for the measurement of the linear part (Span default 3 s)
 }
 
-// WobblePrediction is the describing function's answer for one screw's
+// Prediction is the describing function's answer for one screw's
 // loop, the other screws held rigid.
-type WobblePrediction struct {
+type Prediction struct {
 	Actuator    string  `json:"actuator"`
 	Found       bool    `json:"found"`        // the harmonic balance has a solution
 	ScrewAmp    float64 `json:"screw_amp"`    // amplitude at the backlash's input (the screw), m or rad
@@ -100,10 +105,10 @@ type WobblePrediction struct {
 	PhaseDeg    float64 `json:"phase_deg"`    // arg G there
 }
 
-// WobbleResult puts the prediction beside the simulation.
-type WobbleResult struct {
-	Backlash    float64            `json:"backlash"`
-	Predictions []WobblePrediction `json:"predictions"`
+// Result puts the prediction beside the simulation.
+type Result struct {
+	Backlash    float64      `json:"backlash"`
+	Predictions []Prediction `json:"predictions"`
 	// The simulation with the backlash in every listed screw.
 	Fell        bool               `json:"fell"`
 	TiltAmp     float64            `json:"sim_tilt_amp_deg"`
@@ -115,29 +120,28 @@ type WobbleResult struct {
 // LinearPart measures the linear part G of the loop through one screw (see
 // above) and returns it as a function of w, with the frequency response
 // of the torso tilt to the screw's output, for converting amplitudes.
-func (r *Rig) LinearPart(actuator string, opt LineariseOptions) (g, tiltPerOutput func(w float64) complex128, err error) {
+func LinearPart(r *rig.Rig, actuator string, opt modes.Options) (g, tiltPerOutput func(w float64) complex128, err error) {
 	if opt.Span <= 0 {
 		opt.Span = 3
 	}
-	opt.defaults()
-	ideal := r.Ideal()
-	ks := screwKicks(ideal.Robot, opt)
-	k := slices.IndexFunc(ks, func(k kick) bool { return k.actuator == actuator })
+	opt = opt.Filled()
+	ideal := modes.Ideal(r)
+	ks := modes.ScrewKicks(ideal.Robot, opt)
+	k := slices.IndexFunc(ks, func(k modes.Kick) bool { return k.Actuator == actuator })
 	if k < 0 {
 		return nil, nil, fmt.Errorf("wobble: %q is not a lead screw of %s", actuator, r.Robot.Name)
 	}
 	outputs := []string{actuator + ".output", "torso_tilt"}
-	res, err := ideal.measure(opt, ks[k:k+1], outputs, 400)
+	res, err := modes.Measure(ideal, opt, ks[k:k+1], outputs, 400)
 	if err != nil {
 		return nil, nil, err
 	}
-	re, err := era(res.y, 2, 1, opt.Order, opt.Tol)
+	re, err := modes.ERA(res, opt.Order, opt.Tol)
 	if err != nil {
 		return nil, nil, err
 	}
-	re.T = res.T
 	step := func(w float64) (y, tilt complex128) {
-		h := re.response(w)
+		h := re.Response(w)
 		// The slip is a step: S = H (1 - 1/z), and half a sample forward
 		// because the sampled differences lag the motion by that on average.
 		z := cmplx.Exp(complex(0, w*re.T))
@@ -160,49 +164,10 @@ func (r *Rig) LinearPart(actuator string, opt LineariseOptions) (g, tiltPerOutpu
 	return g, tiltPerOutput, nil
 }
 
-// response is the realisation's frequency response C (zI - A)^-1 B at
-// z = exp(jwT), one value per output for a single input, solved in real
-// block form.
-func (re *realisation) response(w float64) []complex128 {
-	n, _ := re.a.Dims()
-	p, _ := re.c.Dims()
-	zr, zi := math.Cos(w*re.T), math.Sin(w*re.T)
-	m := mat.NewDense(2*n, 2*n, nil)
-	rhs := mat.NewDense(2*n, 1, nil)
-	for i := range n {
-		for j := range n {
-			v := -re.a.At(i, j)
-			m.Set(i, j, v)
-			m.Set(n+i, n+j, v)
-		}
-		m.Set(i, i, m.At(i, i)+zr)
-		m.Set(n+i, n+i, m.At(n+i, n+i)+zr)
-		m.Set(i, n+i, -zi)
-		m.Set(n+i, i, zi)
-		rhs.Set(i, 0, re.b.At(i, 0))
-	}
-	var x mat.Dense
-	out := make([]complex128, p)
-	if err := x.Solve(m, rhs); err != nil {
-		for i := range out {
-			out[i] = cmplx.NaN()
-		}
-		return out
-	}
-	for r := range p {
-		var s complex128
-		for i := range n {
-			s += complex(re.c.At(r, i)*x.At(i, 0), re.c.At(r, i)*x.At(n+i, 0))
-		}
-		out[r] = s
-	}
-	return out
-}
-
-// Wobble predicts the backlash limit cycle of each listed screw's loop by
+// Run predicts the backlash limit cycle of each listed screw's loop by
 // the describing function and runs the rig with the backlash in all of
 // them to measure the real one.
-func (r *Rig) Wobble(spec WobbleSpec) (*WobbleResult, error) {
+func Run(r *rig.Rig, spec Spec) (*Result, error) {
 	if len(spec.Actuators) == 0 {
 		return nil, errors.New("wobble: no actuators given")
 	}
@@ -215,15 +180,15 @@ func (r *Rig) Wobble(spec WobbleSpec) (*WobbleResult, error) {
 	if spec.Window <= 0 || spec.Window > spec.Duration {
 		spec.Window = spec.Duration / 2
 	}
-	res := &WobbleResult{Backlash: spec.Backlash, ScrewAmp: map[string]float64{}, OutputAmp: map[string]float64{}}
+	res := &Result{Backlash: spec.Backlash, ScrewAmp: map[string]float64{}, OutputAmp: map[string]float64{}}
 	for _, name := range spec.Actuators {
-		g, tilt, err := r.LinearPart(name, spec.Lin)
+		g, tilt, err := LinearPart(r, name, spec.Lin)
 		if err != nil {
 			return nil, err
 		}
-		pr := WobblePrediction{Actuator: name}
+		pr := Prediction{Actuator: name}
 		if i := slices.IndexFunc(r.Robot.Actuators, func(a models.Actuator) bool { return a.Name == name }); i >= 0 {
-			pr.Rotary = rotary(r.Robot, &r.Robot.Actuators[i])
+			pr.Rotary = modes.Rotary(r.Robot, &r.Robot.Actuators[i])
 		}
 		pr.CrossoverHz, pr.PhaseDeg = crossover(g, 2*math.Pi*0.05, 2*math.Pi*50)
 		a, w, resid, ok := BacklashCycle(g, spec.Backlash, 2*math.Pi*0.05, 2*math.Pi*20)
@@ -237,13 +202,13 @@ func (r *Rig) Wobble(spec WobbleSpec) (*WobbleResult, error) {
 		}
 		res.Predictions = append(res.Predictions, pr)
 	}
-	sr := &Rig{Robot: r.Robot.Clone(), Spec: r.Spec, Gains: r.Gains}
+	sr := &rig.Rig{Robot: r.Robot.Clone(), Spec: r.Spec, Gains: r.Gains}
 	for _, name := range spec.Actuators {
 		if err := models.SetParam(sr.Robot, "actuators."+name+".backlash", spec.Backlash); err != nil {
 			return nil, err
 		}
 	}
-	o, err := sr.Execute(spec.Duration, sim.Options{Seed: spec.Seed})
+	o, err := sr.Run(spec.Duration, sim.Options{Seed: spec.Seed})
 	if err != nil {
 		return nil, err
 	}
@@ -253,11 +218,11 @@ func (r *Rig) Wobble(spec WobbleSpec) (*WobbleResult, error) {
 	i := sort.SearchFloat64s(t, t[len(t)-1]-spec.Window)
 	if len(t)-i >= 16 {
 		dt := (t[len(t)-1] - t[i]) / float64(len(t)-1-i)
-		a, f := SpectralPeak(o.Rec.Column("torso_tilt")[i:], dt)
+		a, f := metric.SpectralPeak(o.Rec.Column("torso_tilt")[i:], dt)
 		res.TiltAmp, res.FrequencyHz = a*180/math.Pi, f
 		for _, name := range spec.Actuators {
-			res.ScrewAmp[name], _ = SpectralPeak(o.Rec.Column(name + ".screw")[i:], dt)
-			res.OutputAmp[name], _ = SpectralPeak(o.Rec.Column(name + ".output")[i:], dt)
+			res.ScrewAmp[name], _ = metric.SpectralPeak(o.Rec.Column(name + ".screw")[i:], dt)
+			res.OutputAmp[name], _ = metric.SpectralPeak(o.Rec.Column(name + ".output")[i:], dt)
 		}
 	}
 	return res, nil

@@ -1,0 +1,163 @@
+// Package rig is the only place that joins a robot, its controller graph and
+// a gain set. It finds a robot's controller, decides the control rate,
+// builds plants, runs and measures them, and makes the parameter variants
+// that sweeps and tuning try. The command line, the window and every study
+// go through it; neither sim nor control imports it.
+package rig
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+
+	"teeter/control"
+	"teeter/models"
+	"teeter/sim"
+)
+
+// Rig is a robot with the controller that keeps it up and the gains to use:
+// everything needed to build plants for it, as many times as a study wants.
+type Rig struct {
+	Robot *models.Robot
+	// Spec is the controller graph; nil drives the robot with sim.HoldPose.
+	Spec *control.Spec
+	// Gains, when set, override the graph's parameters after it is built.
+	Gains *control.GainSet
+}
+
+// Load loads a robot (a file or builtin:NAME) and finds its controller:
+// controllerFile if given (a file or builtin:NAME), else the robot's own
+// (see ControllerSection). gainsFile, if given, is a gain set applied on
+// top.
+func Load(model, controllerFile, gainsFile string) (*Rig, error) {
+	robot, err := models.Load(model)
+	if err != nil {
+		return nil, err
+	}
+	r := &Rig{Robot: robot}
+	switch {
+	case strings.HasPrefix(controllerFile, "builtin:"):
+		r.Spec, err = control.Builtin(strings.TrimPrefix(controllerFile, "builtin:"))
+	case controllerFile != "":
+		r.Spec, err = control.ParseFile(controllerFile)
+	default:
+		r.Spec, err = Spec(robot)
+	}
+	if err != nil {
+		return nil, err
+	}
+	if gainsFile != "" {
+		if r.Spec == nil {
+			return nil, fmt.Errorf("%s: gains given, but robot %s has no controller", gainsFile, model)
+		}
+		gs, err := control.ReadGains(gainsFile)
+		if err != nil {
+			return nil, err
+		}
+		r.Gains = &gs
+	}
+	// Build once to report a controller that does not fit the robot now,
+	// rather than in the middle of a study.
+	if _, _, err := r.Build(sim.Options{}); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// builtinController is the name of a built-in robot's built-in controller,
+// or "" for a robot with none.
+func builtinController(r *models.Robot) string {
+	name, ok := strings.CutPrefix(r.Source, "builtin:")
+	if !ok || !slices.Contains(control.BuiltinNames(), name) {
+		return ""
+	}
+	return name
+}
+
+// Spec is a robot's own controller: its controller section, else the
+// built-in controller of a built-in robot, else none (nil).
+func Spec(r *models.Robot) (*control.Spec, error) {
+	if r.Controller != nil {
+		return control.Parse(r.Controller)
+	}
+	if name := builtinController(r); name != "" {
+		return control.Builtin(name)
+	}
+	return nil, nil
+}
+
+// ControllerSection is the robot's own controller (as Spec finds it) as a
+// value tree to edit: a copy of its controller section, else the built-in
+// controller's.
+func ControllerSection(r *models.Robot) (*models.Value, error) {
+	if r.Controller != nil {
+		v := r.Controller.Clone()
+		return &v, nil
+	}
+	name := builtinController(r)
+	if name == "" {
+		return nil, fmt.Errorf("robot %s has no controller section to edit", r.Name)
+	}
+	data, err := control.BuiltinSource(name)
+	if err != nil {
+		return nil, err
+	}
+	root, err := models.ParseValue("builtin:"+name+".controller", data)
+	if err != nil {
+		return nil, err
+	}
+	if f, ok := root.Get("controller"); ok {
+		v := f.Value
+		return &v, nil
+	}
+	return &root, nil
+}
+
+// Controller builds the rig's controller graph, bound to the robot's sensor
+// channels and actuators, with the rig's gains applied. It returns nil for a
+// rig with no controller graph.
+func (r *Rig) Controller() (*control.Graph, error) {
+	if r.Spec == nil {
+		return nil, nil
+	}
+	g, err := control.Build(r.Spec, models.Channels(r.Robot), models.ActuatorNames(r.Robot))
+	if err != nil {
+		return nil, err
+	}
+	if r.Gains != nil {
+		if err := g.Apply(*r.Gains); err != nil {
+			return nil, err
+		}
+	}
+	return g, nil
+}
+
+// ControlRate is the rate the rig's controller ticks at: the graph's own
+// rate, or sim.DefaultControlRate for sim.HoldPose.
+func (r *Rig) ControlRate() float64 {
+	if r.Spec == nil {
+		return sim.DefaultControlRate
+	}
+	return r.Spec.Rate
+}
+
+// Build makes a fresh plant and controller. The controller ticks at
+// ControlRate unless opt sets a rate.
+func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
+	g, err := r.Controller()
+	if err != nil {
+		return nil, nil, err
+	}
+	if opt.ControlRate == 0 {
+		opt.ControlRate = r.ControlRate()
+	}
+	var c sim.Controller = sim.NewHoldPose()
+	if g != nil {
+		c = g
+	}
+	p, err := sim.New(r.Robot, c, opt)
+	if err != nil {
+		return nil, nil, err
+	}
+	return p, g, nil
+}
