@@ -10,7 +10,10 @@ import (
 
 // Save writes r as a robot file that Parse reads back to the same model.
 // Numbers are bare SI values written with the fewest digits that read back
-// exactly, so nothing is lost to unit conversion.
+// exactly, so nothing is lost to unit conversion. It writes the YAML by
+// hand rather than through a YAML encoder so that the bytes depend only on
+// the robot (field order, quoting and number format fixed here, not by an
+// encoder's version), which the "same inputs, same bytes" promise needs.
 func Save(w io.Writer, r *Robot) error {
 	e := &emitter{w: bufio.NewWriter(w)}
 	e.line(0, "# Written by teeter. Bare numbers are SI: m, kg, s, rad, N, V, A, C, ohm.")

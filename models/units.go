@@ -141,7 +141,9 @@ var units = map[string]unitDef{
 
 // ParseQuantity reads a number with an optional unit, such as "12 mm",
 // "0.5 deg", "4 N*s", "30 mm/s", "2 N*m/rad" or "-3.5e-2". A bare number is
-// taken as SI. The unit must be of one of the wanted kinds (any kind when none
+// taken as SI. It is our own small parser, not a units library, because it
+// must know the radian as a dimension of its own (so an angle is refused
+// where a length is wanted) and the trade's spellings (N*s, mm/s, %). The unit must be of one of the wanted kinds (any kind when none
 // is given); the kind found is returned.
 func ParseQuantity(text string, want ...Kind) (float64, Kind, error) {
 	s := strings.TrimSpace(text)

@@ -27,6 +27,10 @@ func (k ValueKind) String() string {
 // Value is a YAML document reduced to what a schema needs: scalars as text,
 // lists, and mappings that keep their key order, each with its position.
 // Schema walkers in this package and in the controller package read it.
+// It is built from go-yaml's syntax tree rather than by decoding into
+// structs because decoding drops positions, quoting and key order, and
+// every problem must name its line and column and every number keeps the
+// unit it was written with.
 type Value struct {
 	Kind   ValueKind
 	Text   string  // Scalar: the text as written, without quotes
