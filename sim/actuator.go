@@ -64,11 +64,7 @@ func (p *Plant) buildActuator(m *models.Actuator, a *actuator) error {
 		a.drive, a.a, a.b = driveLength, la.body, lb.body
 		a.anchorA, a.anchorB = la.local(m.From.Point), lb.local(m.To.Point)
 	case m.Joint != "":
-		for i := range p.joints {
-			if p.joints[i].name == m.Joint {
-				a.jnt = &p.joints[i]
-			}
-		}
+		a.jnt = p.joint(m.Joint)
 		j := a.jnt
 		if j == nil {
 			return fmt.Errorf("joint %q is not a joint", m.Joint)

@@ -192,3 +192,41 @@ func TestHeldShoveImpulse(t *testing.T) {
 		}
 	}
 }
+
+func TestScheduleReplacesTheShovesToCome(t *testing.T) {
+	// A free box in the air: each shove changes its momentum along x by its
+	// impulse (impulse-momentum theorem, any physics textbook), so the
+	// momentum counts the shoves given.
+	const m = 2.0
+	r := pendulum(models.Shape{Kind: models.Box, Width: 0.1, Height: 0.1}, m, 0)
+	r.Links[0].Position.Y = 100
+	p, err := New(r, nil, Options{Shoves: []Shove{{At: 0.1, Impulse: models.Vec2{X: 1}}, {At: 0.5, Impulse: models.Vec2{X: 2}}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b := p.link("bob").body
+	momentum := func() float64 { return m * b.Velocity().X }
+	if err := p.RunFor(0.3); err != nil {
+		t.Fatal(err)
+	}
+	// The shove at 0.2 s has passed and is dropped; the one at 0.5 s is
+	// replaced by one at 0.4 s.
+	if err := p.Schedule([]Shove{{At: 0.4, Impulse: models.Vec2{X: 0.5}}, {At: 0.2, Impulse: models.Vec2{X: 10}}}); err != nil {
+		t.Fatal(err)
+	}
+	if err := p.RunFor(0.095); err != nil {
+		t.Fatal(err)
+	}
+	if got := momentum(); math.Abs(got-1) > 1e-9 {
+		t.Errorf("before 0.4 s the momentum is %.9f N*s, want the first shove's 1", got)
+	}
+	if err := p.RunFor(0.6); err != nil {
+		t.Fatal(err)
+	}
+	if got := momentum(); math.Abs(got-1.5) > 1e-9 {
+		t.Errorf("at the end the momentum is %.9f N*s, want 1 + 0.5", got)
+	}
+	if err := p.Schedule([]Shove{{At: 2, Link: "nope"}}); err == nil {
+		t.Error("a shove on a link that does not exist was scheduled")
+	}
+}

@@ -1,11 +1,9 @@
 package sim
 
 import (
-	"cmp"
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 	"sync"
 
 	"github.com/jakecoffman/cp/v2"
@@ -151,12 +149,8 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 	if err := p.buildLocked(); err != nil {
 		return nil, fmt.Errorf("sim: robot %q: %w", r.Name, err)
 	}
-	p.shoves = slices.Clone(opt.Shoves)
-	slices.SortStableFunc(p.shoves, func(a, b Shove) int { return cmp.Compare(a.At, b.At) })
-	for i := range p.shoves {
-		if err := p.checkShove(&p.shoves[i]); err != nil {
-			return nil, err
-		}
+	if err := p.Schedule(opt.Shoves); err != nil {
+		return nil, err
 	}
 	p.pending = make([]Shove, 0, 8)
 	p.held = make([]heldShove, 0, 8)
@@ -314,6 +308,21 @@ func (p *Plant) link(name string) *link {
 		return nil
 	}
 	return &p.links[i]
+}
+
+func (p *Plant) joint(name string) *joint {
+	return find(p.joints, name, func(j *joint) string { return j.name })
+}
+
+// find is the element of xs that nameOf names name (names are unique), or
+// nil.
+func find[T any](xs []T, name string, nameOf func(*T) string) *T {
+	for i := range xs {
+		if nameOf(&xs[i]) == name {
+			return &xs[i]
+		}
+	}
+	return nil
 }
 
 func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {

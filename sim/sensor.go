@@ -57,21 +57,11 @@ func (p *Plant) buildSensors(seed uint64) error {
 			s.nch = 1
 			switch {
 			case ms.Joint != "":
-				for k := range p.joints {
-					if p.joints[k].name == ms.Joint {
-						s.jnt = &p.joints[k]
-					}
-				}
-				if s.jnt == nil {
+				if s.jnt = p.joint(ms.Joint); s.jnt == nil {
 					return fmt.Errorf("sensor %q: joint %q is not a joint", ms.Name, ms.Joint)
 				}
 			case ms.Actuator != "":
-				for k := range p.acts {
-					if p.acts[k].name == ms.Actuator {
-						s.act = &p.acts[k]
-					}
-				}
-				if s.act == nil {
+				if s.act = find(p.acts, ms.Actuator, func(a *actuator) string { return a.name }); s.act == nil {
 					return fmt.Errorf("sensor %q: actuator %q is not an actuator", ms.Name, ms.Actuator)
 				}
 			default:
@@ -79,12 +69,7 @@ func (p *Plant) buildSensors(seed uint64) error {
 			}
 		case models.FootLoad:
 			s.nch = 1
-			for k := range p.pads {
-				if p.pads[k].name == ms.Pad {
-					s.pad = &p.pads[k]
-				}
-			}
-			if s.pad == nil {
+			if s.pad = find(p.pads, ms.Pad, func(d *pad) string { return d.name }); s.pad == nil {
 				return fmt.Errorf("sensor %q: pad %q is not a pad", ms.Name, ms.Pad)
 			}
 		default:

@@ -1,8 +1,10 @@
 package sim
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"github.com/jakecoffman/cp/v2"
@@ -140,6 +142,31 @@ func (p *Plant) checkShove(s *Shove) error {
 	return nil
 }
 
+// Schedule replaces the shoves given at set times that have not come yet
+// with shoves, dropping those whose time has passed. Each comes at the
+// physics step nearest its At. Call it between steps from the goroutine
+// that owns the plant.
+func (p *Plant) Schedule(shoves []Shove) error {
+	list := slices.Clone(shoves)
+	slices.SortStableFunc(list, func(a, b Shove) int { return cmp.Compare(a.At, b.At) })
+	for i := range list {
+		if err := p.checkShove(&list[i]); err != nil {
+			return err
+		}
+	}
+	p.shoves, p.nextSh = list, 0
+	if p.step > 0 {
+		last := p.Time() - p.dt
+		for p.nextSh < len(list) && p.due(&list[p.nextSh], last) {
+			p.nextSh++
+		}
+	}
+	return nil
+}
+
+// due says whether a scheduled shove comes at the step starting at now.
+func (p *Plant) due(s *Shove, now float64) bool { return s.At <= now+p.dt/2 }
+
 // Shove pushes the robot at the next step, whatever s.At says. Call it
 // between steps from the goroutine that owns the plant.
 func (p *Plant) Shove(s Shove) error {
@@ -152,7 +179,7 @@ func (p *Plant) Shove(s Shove) error {
 
 // applyShoves starts the shoves due and applies the held ones.
 func (p *Plant) applyShoves(now float64) {
-	for p.nextSh < len(p.shoves) && p.shoves[p.nextSh].At <= now+p.dt/2 {
+	for p.nextSh < len(p.shoves) && p.due(&p.shoves[p.nextSh], now) {
 		p.start(&p.shoves[p.nextSh])
 		p.nextSh++
 	}

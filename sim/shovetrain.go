@@ -24,8 +24,23 @@ const MaxRandomShoves = 1 << 20
 // impulse range, a zero direction) give none; a train is cut at
 // MaxRandomShoves shoves.
 func RandomShoves(seed uint64, from, to, meanInterval, minImpulse, maxImpulse float64, dirs []models.Vec2) []Shove {
-	if !finite(from, to, meanInterval, minImpulse, maxImpulse) || to <= from || meanInterval <= 0 ||
-		minImpulse < 0 || maxImpulse < minImpulse {
+	if !finite(to) {
+		return nil
+	}
+	return randomShoves(seed, from, to, MaxRandomShoves, meanInterval, minImpulse, maxImpulse, dirs)
+}
+
+// FirstRandomShoves is the first n shoves (at most MaxRandomShoves) of the
+// train RandomShoves makes from from on, as if it had no end.
+func FirstRandomShoves(n int, seed uint64, from, meanInterval, minImpulse, maxImpulse float64, dirs []models.Vec2) []Shove {
+	return randomShoves(seed, from, math.Inf(1), min(n, MaxRandomShoves), meanInterval, minImpulse, maxImpulse, dirs)
+}
+
+// randomShoves makes the train of RandomShoves, in [from, to) and at most
+// n long.
+func randomShoves(seed uint64, from, to float64, n int, meanInterval, minImpulse, maxImpulse float64, dirs []models.Vec2) []Shove {
+	if !finite(from, meanInterval, minImpulse, maxImpulse) || math.IsNaN(to) || to <= from || meanInterval <= 0 ||
+		minImpulse < 0 || maxImpulse < minImpulse || n <= 0 {
 		return nil
 	}
 	if dirs == nil {
@@ -45,7 +60,7 @@ func RandomShoves(seed uint64, from, to, meanInterval, minImpulse, maxImpulse fl
 	// A fixed second word keeps the stream a function of seed alone.
 	rng := rand.New(rand.NewPCG(seed, 0x7465657465722d73))
 	var train []Shove
-	for t := from + rng.ExpFloat64()*meanInterval; t < to && len(train) < MaxRandomShoves; t += rng.ExpFloat64() * meanInterval {
+	for t := from + rng.ExpFloat64()*meanInterval; t < to && len(train) < n; t += rng.ExpFloat64() * meanInterval {
 		size := minImpulse + rng.Float64()*(maxImpulse-minImpulse)
 		d := unit[rng.IntN(len(unit))]
 		train = append(train, Shove{At: t, Impulse: models.Vec2{X: size * d.X, Y: size * d.Y}})

@@ -119,3 +119,19 @@ func TestRandomShovesRefuseNonsense(t *testing.T) {
 		t.Errorf("a train of a billion shoves was cut at %d, want %d", n, MaxRandomShoves)
 	}
 }
+
+func TestFirstRandomShovesAreTheTrainsStart(t *testing.T) {
+	// Counting shoves instead of ending at a time is the same Poisson train
+	// (the checks above), cut after n.
+	long := RandomShoves(3, 1, 1000, 2, 0.5, 1, nil)
+	first := FirstRandomShoves(10, 3, 1, 2, 0.5, 1, nil)
+	if len(first) != 10 || len(long) < 10 || !slices.Equal(first, long[:10]) {
+		t.Fatalf("the first 10 shoves %+v are not the train's first 10 %+v", first, long[:min(10, len(long))])
+	}
+	if got := FirstRandomShoves(0, 3, 1, 2, 0.5, 1, nil); got != nil {
+		t.Errorf("no shoves asked for, got %d", len(got))
+	}
+	if got := FirstRandomShoves(5, 3, 1, 0, 0.5, 1, nil); got != nil {
+		t.Errorf("a train with no interval gave %d shoves", len(got))
+	}
+}
