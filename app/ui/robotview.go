@@ -22,10 +22,8 @@ const shoveScale = 10.0 // N*s per m
 // shove: press on the link, drag, release; an arrow shows the impulse.
 // Dragging on empty space pans; the scroll wheel zooms.
 type robotView struct {
-	widget.BaseWidget
-	raster *canvas.Raster
-	img    *image.RGBA
-	dc     *gg.Context
+	rasterView
+	dc *gg.Context
 
 	sc    *scene
 	fitSc *scene // the scene the view was fitted to: the view stays put as the robot moves
@@ -44,16 +42,44 @@ type robotView struct {
 
 func newRobotView(onShove func(sim.Shove)) *robotView {
 	rv := &robotView{zoom: 1, onShove: onShove, dragLink: -1}
-	rv.raster = canvas.NewRaster(rv.render)
-	rv.ExtendBaseWidget(rv)
+	rv.init(rv, fyne.NewSize(320, 260), rv.render)
 	return rv
 }
 
-func (rv *robotView) CreateRenderer() fyne.WidgetRenderer {
-	return widget.NewSimpleRenderer(rv.raster)
+// rasterView is a widget drawn as one image of the raster's pixel size,
+// kept and reused while the size stays the same.
+type rasterView struct {
+	widget.BaseWidget
+	raster  *canvas.Raster
+	img     *image.RGBA
+	minSize fyne.Size
 }
 
-func (rv *robotView) MinSize() fyne.Size { return fyne.NewSize(320, 260) }
+// init makes the raster, drawn by render, of self, the widget embedding it.
+func (rw *rasterView) init(self fyne.Widget, minSize fyne.Size, render func(w, h int) image.Image) {
+	rw.minSize = minSize
+	rw.raster = canvas.NewRaster(render)
+	rw.ExtendBaseWidget(self)
+}
+
+func (rw *rasterView) CreateRenderer() fyne.WidgetRenderer {
+	return widget.NewSimpleRenderer(rw.raster)
+}
+
+func (rw *rasterView) MinSize() fyne.Size { return rw.minSize }
+
+// resize makes the image w x h pixels (1 x 1 for an empty raster) and
+// reports whether it had to make a new one.
+func (rw *rasterView) resize(w, h int) bool {
+	if w <= 0 || h <= 0 {
+		w, h = 1, 1
+	}
+	if rw.img != nil && rw.img.Bounds().Dx() == w && rw.img.Bounds().Dy() == h {
+		return false
+	}
+	rw.img = image.NewRGBA(image.Rect(0, 0, w, h))
+	return true
+}
 
 // setScene replaces what is drawn and redraws.
 func (rv *robotView) setScene(sc *scene) {
@@ -76,18 +102,13 @@ func (rv *robotView) currentView(w, h int) view {
 	return v
 }
 
-// render draws the scene into an image of the raster's pixel size; the
-// image is kept and reused while the size stays the same.
+// render draws the scene into the raster's image.
 func (rv *robotView) render(w, h int) image.Image {
-	if w <= 0 || h <= 0 {
-		w, h = 1, 1
-	}
-	if rv.img == nil || rv.img.Bounds().Dx() != w || rv.img.Bounds().Dy() != h {
-		rv.img = image.NewRGBA(image.Rect(0, 0, w, h))
+	if rv.resize(w, h) {
 		rv.dc = gg.NewContextForRGBA(rv.img)
 		rv.dc.SetFontFace(newTextFace(14))
 	}
-	rv.v = rv.currentView(w, h)
+	rv.v = rv.currentView(rv.img.Bounds().Dx(), rv.img.Bounds().Dy())
 	if rv.sc == nil {
 		rv.dc.SetColor(colBackground)
 		rv.dc.Clear()

@@ -1,8 +1,6 @@
 package ui
 
 import (
-	"math"
-	"math/rand/v2"
 	"sort"
 
 	"fyne.io/fyne/v2"
@@ -56,7 +54,7 @@ func (p *shovePanel) object() fyne.CanvasObject {
 				return
 			}
 		}
-		p.list = randomTrain(int(vals[0]), vals[1], vals[2], uint64(vals[3]))
+		p.list = sim.FirstRandomShoves(int(vals[0]), uint64(vals[3]), trainStart, vals[2], trainSmallest*vals[1], vals[1], nil)
 		p.changed()
 	})
 	add := widget.NewButton("Add shove", func() {
@@ -80,22 +78,12 @@ func (p *shovePanel) object() fyne.CanvasObject {
 	return container.NewBorder(head, nil, nil, nil, container.NewVScroll(p.rows))
 }
 
-// randomTrain makes n shoves of random size up to size and random side, at
-// exponentially distributed intervals of mean gap, reproducible by seed.
-func randomTrain(n int, size, gap float64, seed uint64) []sim.Shove {
-	rng := rand.New(rand.NewPCG(seed, 0x5eed))
-	out := make([]sim.Shove, 0, n)
-	t := 0.0
-	for range n {
-		t += 0.2 + rng.ExpFloat64()*gap
-		j := size * (0.3 + 0.7*rng.Float64())
-		if rng.IntN(2) == 0 {
-			j = -j
-		}
-		out = append(out, sim.Shove{At: math.Round(t*100) / 100, Impulse: models.Vec2{X: math.Round(j*100) / 100}})
-	}
-	return out
-}
+// A random train starts once the robot has settled on its pads, and its
+// shoves range from trainSmallest of the largest impulse to the largest.
+const (
+	trainStart    = 1.0 // s
+	trainSmallest = 0.3
+)
 
 func (p *shovePanel) changed() {
 	sort.SliceStable(p.list, func(i, j int) bool { return p.list[i].At < p.list[j].At })

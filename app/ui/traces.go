@@ -6,19 +6,16 @@ import (
 	"image/color"
 	"math"
 	"slices"
-	"strings"
 
 	"fyne.io/fyne/v2"
-	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/driver/desktop"
-	"fyne.io/fyne/v2/widget"
 	"golang.org/x/image/font"
 
 	"teeter/sim/live"
 )
 
-// signalMeanings say what a recorded signal is and its unit, from the end of
-// its name, for the legend and the help page.
+// signalMeanings say what a recorded signal is and its unit, by the end of
+// its name, for the help page.
 var signalMeanings = []struct{ Suffix, Unit, Meaning string }{
 	{".tilt", "rad", "IMU: its link's angle from upright, counter-clockwise positive"},
 	{".rate", "rad/s", "IMU gyro: its link's angular rate"},
@@ -38,20 +35,11 @@ var signalMeanings = []struct{ Suffix, Unit, Meaning string }{
 	{".out", "", "output of a controller block (.p, .i, .d: a PID's three terms)"},
 }
 
-// unitOf is the unit of signal i: the plant's own when it gives units,
-// else a guess from the name.
-func unitOf(names, units []string, i int) string {
+// unitOf is the recorder's unit of signal i. The names and units are read
+// from the runner apart, so across a rebuild they may differ for a frame.
+func unitOf(units []string, i int) string {
 	if i < len(units) {
 		return units[i]
-	}
-	return signalUnit(names[i])
-}
-
-func signalUnit(name string) string {
-	for _, m := range signalMeanings {
-		if strings.HasSuffix(name, m.Suffix) {
-			return m.Unit
-		}
 	}
 	return ""
 }
@@ -73,13 +61,11 @@ var (
 // each autoscaled, with the pinned reference run behind, a legend, and a
 // readout of the values under the pointer.
 type tracesView struct {
-	widget.BaseWidget
-	raster *canvas.Raster
-	img    *image.RGBA
-	face   font.Face
+	rasterView
+	face font.Face
 
 	names   []string // every recorded signal
-	units   []string // their units, when the plant gives them
+	units   []string // their units
 	shown   []int    // indices of the signals drawn, one strip each
 	window  float64  // s
 	now     float64  // the time at the right edge
@@ -94,16 +80,9 @@ type colRange struct{ lo, hi float64 }
 
 func newTracesView() *tracesView {
 	tv := &tracesView{window: 10, pointer: -1}
-	tv.raster = canvas.NewRaster(tv.render)
-	tv.ExtendBaseWidget(tv)
+	tv.init(tv, fyne.NewSize(320, 180), tv.render)
 	return tv
 }
-
-func (tv *tracesView) CreateRenderer() fyne.WidgetRenderer {
-	return widget.NewSimpleRenderer(tv.raster)
-}
-
-func (tv *tracesView) MinSize() fyne.Size { return fyne.NewSize(320, 180) }
 
 func (tv *tracesView) MouseIn(e *desktop.MouseEvent) { tv.MouseMoved(e) }
 func (tv *tracesView) MouseMoved(e *desktop.MouseEvent) {
@@ -122,12 +101,7 @@ func (tv *tracesView) MouseOut() {
 const plotLeft, plotRight = 8.0, 8.0
 
 func (tv *tracesView) render(w, h int) image.Image {
-	if w <= 0 || h <= 0 {
-		w, h = 1, 1
-	}
-	if tv.img == nil || tv.img.Bounds().Dx() != w || tv.img.Bounds().Dy() != h {
-		tv.img = image.NewRGBA(image.Rect(0, 0, w, h))
-	}
+	tv.resize(w, h)
 	tv.draw(tv.img)
 	return tv.img
 }
@@ -199,7 +173,7 @@ func (tv *tracesView) draw(img *image.RGBA) {
 		tv.strokeSeries(img, &tv.data, k, tx, ty, col, w)
 		// Legend: name, unit, latest value and the range shown, in the
 		// window's units (degrees, millimetres); the data stay SI.
-		unit, f := friendlyUnit(unitOf(tv.names, tv.units, tv.shown[k]))
+		unit, f := friendlyUnit(unitOf(tv.units, tv.shown[k]))
 		label := tv.names[tv.shown[k]]
 		if unit != "" {
 			label += " [" + unit + "]"

@@ -10,7 +10,6 @@
 package live
 
 import (
-	"cmp"
 	"errors"
 	"fmt"
 	"math"
@@ -29,12 +28,17 @@ type Plant[S any] interface {
 	Step() error
 	Time() float64
 	Shove(sim.Shove) error
+	// Schedule replaces the shoves given at set times that have not come
+	// yet (sim.Plant.Schedule).
+	Schedule([]sim.Shove) error
 	// Snapshot fills dst with the current state for drawing.
 	Snapshot(dst *S)
 	// Fall reports whether the robot has fallen, why and when.
 	Fall() (fallen bool, reason string, at float64)
-	// SignalNames and Signals give the values recorded in the trace.
+	// SignalNames and Signals give the values recorded in the trace, and
+	// SignalUnits the SI unit of each ("" for a pure number).
 	SignalNames() []string
+	SignalUnits() []string
 	Signals(dst []float64)
 }
 
@@ -104,19 +108,22 @@ type Runner[S any] struct {
 	reader   *S // owned by the reader between calls to Latest
 
 	// Owned by the goroutine.
-	cfg       Config[S]
-	robot     *models.Robot
-	plant     Plant[S]
-	tuner     Tuner
-	gains     map[string]float64
-	gainList  []string // keys of gains in the order first set, for replay
-	back      *S
-	sample    []float64
-	lastRec   float64
-	running   bool
-	speed     float64
-	schedule  []sim.Shove // sorted by At
-	nextShove int
+	cfg      Config[S]
+	robot    *models.Robot
+	plant    Plant[S]
+	tuner    Tuner
+	gains    map[string]float64
+	gainList []string // keys of gains in the order first set, for replay
+	back     *S
+	sample   []float64
+	lastRec  float64
+	running  bool
+	speed    float64
+	schedule []sim.Shove // given to every plant built
+	// The pace: wall and simulated time when pacing began, and when the
+	// achieved speed was last measured.
+	wallStart, rateWall time.Time
+	simStart, rateSim   float64
 }
 
 type command struct {
@@ -182,13 +189,12 @@ func (r *Runner[S]) rebuild() error {
 			return fmt.Errorf("gain %s: %w", path, err)
 		}
 	}
-	names := plant.SignalNames()
-	var units []string
-	if u, ok := plant.(interface{ SignalUnits() []string }); ok {
-		units = u.SignalUnits()
+	names, units := plant.SignalNames(), plant.SignalUnits()
+	notice := ""
+	if err := plant.Schedule(r.schedule); err != nil {
+		notice = fmt.Sprintf("scheduled shoves left out: %v", err)
 	}
 	r.plant, r.tuner = plant, tuner
-	r.nextShove = 0
 	r.sample = make([]float64, len(names))
 	r.lastRec = math.Inf(-1)
 	capacity := int(r.cfg.TraceSeconds*r.cfg.TraceRate) + 1
@@ -206,6 +212,9 @@ func (r *Runner[S]) rebuild() error {
 	r.status.Time = plant.Time()
 	r.status.Fallen, r.status.FallReason, r.status.FallTime = false, "", 0
 	r.status.Err = nil
+	if notice != "" {
+		r.status.Notice = notice
+	}
 	r.mu.Unlock()
 	r.record(true)
 	r.publish()
@@ -252,14 +261,6 @@ func (r *Runner[S]) tick() (ok bool) {
 			ok = false
 		}
 	}()
-	for r.nextShove < len(r.schedule) && r.schedule[r.nextShove].At <= r.plant.Time()+1e-12 {
-		if err := r.plant.Shove(r.schedule[r.nextShove]); err != nil {
-			r.mu.Lock()
-			r.status.Notice = fmt.Sprintf("scheduled shove at %.3g s: %v", r.schedule[r.nextShove].At, err)
-			r.mu.Unlock()
-		}
-		r.nextShove++
-	}
 	if err := r.plant.Step(); err != nil {
 		r.stop(err)
 		return false
@@ -278,90 +279,111 @@ const frame = 15 * time.Millisecond
 
 func (r *Runner[S]) loop() {
 	defer close(r.done)
-	var wallStart time.Time
-	var simStart float64
-	var rateWall time.Time
-	var rateSim float64
-	restartClock := func() {
-		wallStart = time.Now()
-		simStart = r.plant.Time()
-		rateWall, rateSim = wallStart, simStart
-	}
 	timer := time.NewTimer(time.Hour)
 	defer timer.Stop()
 	for {
 		if !r.running {
-			select {
-			case <-r.quit:
+			if !r.await(nil) {
 				return
-			case c := <-r.cmds:
-				r.handle(c)
-				restartClock()
 			}
 			continue
 		}
-		// Running: take every waiting command, then step one frame.
-		for drained := false; !drained; {
-			select {
-			case <-r.quit:
-				return
-			case c := <-r.cmds:
-				// A command may have changed the speed or rebuilt the plant
-				// (time back to zero): pace from here.
-				r.handle(c)
-				restartClock()
-			default:
-				drained = true
-			}
+		if !r.drain() {
+			return
 		}
 		if !r.running {
 			continue
 		}
 		begin := time.Now()
-		deadline := begin.Add(frame)
-		target := math.Inf(1)
-		if r.speed > 0 {
-			target = simStart + deadline.Sub(wallStart).Seconds()*r.speed
-		}
-		steps := 0
-		for r.plant.Time() < target {
-			if !r.tick() {
-				break
-			}
-			steps++
-			// Look at the clock every few steps only: it costs more than a step.
-			if steps%8 == 0 && time.Now().After(deadline) {
-				break
-			}
-		}
+		target := r.runFrame(begin)
 		r.publish()
 		elapsed := time.Since(begin)
-		// Achieved speed over about half a second of wall time, sleeps included.
-		if wall := time.Since(rateWall).Seconds(); wall >= 0.5 {
-			r.mu.Lock()
-			r.status.Achieved = (r.plant.Time() - rateSim) / wall
-			r.mu.Unlock()
-			rateWall, rateSim = time.Now(), r.plant.Time()
-		}
+		r.measureSpeed()
 		if r.speed > 0 && r.plant.Time() < target {
 			// Behind real time: do not try to catch up later in a burst.
-			restartClock()
+			r.restartClock()
 		}
 		if r.speed > 0 && elapsed < frame {
 			timer.Reset(frame - elapsed)
-			select {
-			case <-r.quit:
+			ok := r.await(timer.C)
+			timer.Stop()
+			if !ok {
 				return
-			case c := <-r.cmds:
-				if !timer.Stop() {
-					<-timer.C
-				}
-				r.handle(c)
-				restartClock()
-			case <-timer.C:
 			}
 		}
 	}
+}
+
+// restartClock paces the run from now and the plant's time now.
+func (r *Runner[S]) restartClock() {
+	r.wallStart, r.simStart = time.Now(), r.plant.Time()
+	r.rateWall, r.rateSim = r.wallStart, r.simStart
+}
+
+// obey runs a command and paces from there: it may have changed the speed
+// or rebuilt the plant (time back to zero).
+func (r *Runner[S]) obey(c command) {
+	r.handle(c)
+	r.restartClock()
+}
+
+// await waits for a command, which it runs, or for wake (nil: none). It
+// reports false when the runner is closing.
+func (r *Runner[S]) await(wake <-chan time.Time) bool {
+	select {
+	case <-r.quit:
+		return false
+	case c := <-r.cmds:
+		r.obey(c)
+	case <-wake:
+	}
+	return true
+}
+
+// drain runs every command waiting, without waiting for more. It reports
+// false when the runner is closing.
+func (r *Runner[S]) drain() bool {
+	for {
+		select {
+		case <-r.quit:
+			return false
+		case c := <-r.cmds:
+			r.obey(c)
+		default:
+			return true
+		}
+	}
+}
+
+// runFrame steps towards where the simulated time should be at the end of
+// the frame begun at begin (as far as it can at speed 0) and returns that
+// target. It stops early at the frame's end, a fall or a failure.
+func (r *Runner[S]) runFrame(begin time.Time) (target float64) {
+	deadline := begin.Add(frame)
+	target = math.Inf(1)
+	if r.speed > 0 {
+		target = r.simStart + deadline.Sub(r.wallStart).Seconds()*r.speed
+	}
+	for steps := 1; r.plant.Time() < target && r.tick(); steps++ {
+		// Look at the clock every few steps only: it costs more than a step.
+		if steps%8 == 0 && time.Now().After(deadline) {
+			break
+		}
+	}
+	return target
+}
+
+// measureSpeed updates the achieved speed over about half a second of wall
+// time, sleeps included.
+func (r *Runner[S]) measureSpeed() {
+	wall := time.Since(r.rateWall).Seconds()
+	if wall < 0.5 {
+		return
+	}
+	r.mu.Lock()
+	r.status.Achieved = (r.plant.Time() - r.rateSim) / wall
+	r.mu.Unlock()
+	r.rateWall, r.rateSim = time.Now(), r.plant.Time()
 }
 
 func (r *Runner[S]) stop(err error) {
@@ -482,17 +504,15 @@ func (r *Runner[S]) Shove(s sim.Shove) <-chan error {
 }
 
 // Schedule replaces the list of shoves given at set times of every run
-// from the next reset on, and of this run for those not yet due.
+// from the next reset on, and of this run for those not yet due. The
+// plant schedules them; a list it refuses changes nothing.
 func (r *Runner[S]) Schedule(shoves []sim.Shove) <-chan error {
 	list := slices.Clone(shoves)
-	slices.SortStableFunc(list, func(a, b sim.Shove) int { return cmp.Compare(a.At, b.At) })
 	return r.send(func() error {
-		r.schedule = list
-		now := r.plant.Time()
-		r.nextShove = 0
-		for r.nextShove < len(list) && list[r.nextShove].At < now {
-			r.nextShove++
+		if err := r.plant.Schedule(list); err != nil {
+			return err
 		}
+		r.schedule = list
 		return nil
 	})
 }
@@ -558,14 +578,15 @@ func (r *Runner[S]) SetParam(path string, v float64) <-chan error {
 }
 
 // SetRobot replaces the robot (a file was opened, or its controller was
-// edited) and rebuilds, paused, with the new robot's own gains: gains set
-// before are forgotten. On error the old robot stays.
+// edited) and rebuilds, paused, with the new robot's own gains and no
+// scheduled shoves: gains and shoves set before are forgotten. On error the
+// old robot stays.
 func (r *Runner[S]) SetRobot(robot *models.Robot) <-chan error {
 	return r.send(func() error {
-		old, oldGains, oldList := r.robot, r.gains, r.gainList
-		r.robot, r.gains, r.gainList = robot, map[string]float64{}, nil
+		old, oldGains, oldList, oldSchedule := r.robot, r.gains, r.gainList, r.schedule
+		r.robot, r.gains, r.gainList, r.schedule = robot, map[string]float64{}, nil, nil
 		if err := r.rebuild(); err != nil {
-			r.robot, r.gains, r.gainList = old, oldGains, oldList
+			r.robot, r.gains, r.gainList, r.schedule = old, oldGains, oldList, oldSchedule
 			return err
 		}
 		r.running = false
@@ -652,8 +673,7 @@ func (r *Runner[S]) SignalNames() []string {
 	return append([]string(nil), r.names...)
 }
 
-// SignalUnits gives the SI unit of each signal when the plant tells them
-// (a plant with a SignalUnits method), else nil.
+// SignalUnits gives the SI unit of each signal, as the plant tells them.
 func (r *Runner[S]) SignalUnits() []string {
 	r.mu.Lock()
 	defer r.mu.Unlock()

@@ -23,6 +23,7 @@ type fakePlant struct {
 	fallAt   float64
 	fallen   bool
 	poisoned bool
+	schedule []sim.Shove // as last given to Schedule
 }
 
 type fakeSnap struct {
@@ -57,6 +58,15 @@ func (p *fakePlant) Shove(s sim.Shove) error {
 	}
 	return nil
 }
+func (p *fakePlant) Schedule(list []sim.Shove) error {
+	for _, s := range list {
+		if s.Link != "mass" {
+			return fmt.Errorf("no link %q", s.Link)
+		}
+	}
+	p.schedule = list
+	return nil
+}
 func (p *fakePlant) Snapshot(dst *fakeSnap) {
 	dst.T, dst.X = p.t, p.x
 	dst.Links = append(dst.Links[:0], p.x, p.v)
@@ -68,6 +78,7 @@ func (p *fakePlant) Fall() (bool, string, float64) {
 	return false, "", 0
 }
 func (p *fakePlant) SignalNames() []string { return []string{"x", "v", "kp"} }
+func (p *fakePlant) SignalUnits() []string { return []string{"m", "m/s", "1/s^2"} }
 func (p *fakePlant) Signals(dst []float64) { dst[0], dst[1], dst[2] = p.x, p.v, p.kpSeen }
 
 type fakeTuner struct{ kp *float64 }
@@ -350,27 +361,31 @@ func TestConcurrentUse(t *testing.T) {
 	wg.Wait()
 }
 
-func TestScheduledShovesComeAtTheirTime(t *testing.T) {
+func TestScheduleGoesToThisPlantAndEveryRebuiltOne(t *testing.T) {
+	// The plant times the shoves (sim's tests check it); the runner hands
+	// the list on, now and after every rebuild of the same robot, and keeps
+	// the old list when the plant refuses a new one.
 	run, built := newFake(t)
-	must(t, run.Schedule([]sim.Shove{{At: 0.05, Link: "mass", Impulse: models.Vec2{X: 1}}}))
-	for range 5 {
-		must(t, run.StepOnce())
-	}
-	p := (*built)[0]
-	if p.v < -0.1 {
-		t.Fatalf("shove came early: v = %g", p.v)
-	}
+	list := []sim.Shove{{At: 0.05, Link: "mass", Impulse: models.Vec2{X: 1}}}
+	must(t, run.Schedule(list))
 	must(t, run.StepOnce())
-	// The 1 N*s shove on the unit mass before the sixth tick adds 1 m/s.
-	if p.v < 0.9 {
-		t.Fatalf("shove at 0.05 s not given by the sixth tick: v = %g", p.v)
+	if got := (*built)[0].schedule; len(got) != 1 || got[0] != list[0] {
+		t.Fatalf("the running plant was given %+v, want %+v", got, list)
+	}
+	if err := <-run.Schedule([]sim.Shove{{At: 1, Link: "nope"}}); err == nil {
+		t.Fatal("a schedule the plant refused was accepted")
 	}
 	must(t, run.Reset())
-	for range 6 {
-		must(t, run.StepOnce())
+	must(t, run.SetParam("start", 0.2))
+	for i, p := range (*built)[1:] {
+		if got := p.schedule; len(got) != 1 || got[0] != list[0] {
+			t.Fatalf("rebuilt plant %d was given %+v, want %+v", i+1, got, list)
+		}
 	}
-	if q := (*built)[1]; q.v < 0.9 {
-		t.Fatalf("schedule not replayed after reset: v = %g", q.v)
+	// Another robot starts with no schedule, as with no gains.
+	must(t, run.SetRobot(&models.Robot{Name: "other"}))
+	if got := (*built)[len(*built)-1].schedule; len(got) != 0 {
+		t.Fatalf("a new robot was given the old schedule %+v", got)
 	}
 }
 
@@ -402,5 +417,13 @@ func TestTickAllocatesNothing(t *testing.T) {
 	}))
 	if allocs != 0 {
 		t.Fatalf("a tick allocates %g times", allocs)
+	}
+}
+
+func TestSignalUnitsAreThePlants(t *testing.T) {
+	run, _ := newFake(t)
+	names, units := run.SignalNames(), run.SignalUnits()
+	if want := []string{"m", "m/s", "1/s^2"}; len(names) != len(units) || fmt.Sprint(units) != fmt.Sprint(want) {
+		t.Fatalf("signals %v have units %v, want the plant's %v", names, units, want)
 	}
 }
