@@ -24,6 +24,39 @@ func Channels(r *Robot) []string {
 	return out
 }
 
+// ChannelUnits gives the SI unit of each of Channels' channels, in the same
+// order: rad for a tilt or an angle, rad/s for a gyro, m for a length, N for
+// a force. A joint_position sensor reads its joint's coordinate, or the
+// output of its actuator.
+func ChannelUnits(r *Robot) []string {
+	var out []string
+	for _, s := range r.Sensors {
+		switch s.Kind {
+		case IMU:
+			out = append(out, "rad", "rad/s", "rad")
+		case JointPosition:
+			out = append(out, positionUnit(r, &s))
+		case FootLoad:
+			out = append(out, "N")
+		}
+	}
+	return out
+}
+
+func positionUnit(r *Robot, s *Sensor) string {
+	for _, j := range r.Joints {
+		if s.Joint != "" && j.Name == s.Joint && j.Kind == Revolute {
+			return "rad"
+		}
+	}
+	for _, a := range r.Actuators {
+		if s.Actuator != "" && a.Name == s.Actuator && !a.Linear {
+			return "rad"
+		}
+	}
+	return "m"
+}
+
 // ActuatorNames lists the actuators of a robot in the order of the commands
 // the controller writes.
 func ActuatorNames(r *Robot) []string {

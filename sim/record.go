@@ -163,25 +163,9 @@ func (p *Plant) newRecorder(capacity int) *Recorder {
 		add(a.name+".force", force)
 		add(a.name+".current", "A")
 	}
-	ch := models.Channels(p.robot)
-	k := 0
-	for i := range p.sensors {
-		s := &p.sensors[i]
-		switch s.m.Kind {
-		case models.IMU:
-			add(ch[k], "rad")
-			add(ch[k+1], "rad/s")
-			add(ch[k+2], "rad")
-		case models.JointPosition:
-			u := "m"
-			if s.jnt != nil && s.jnt.kind == models.Revolute || s.act != nil && s.act.drive == driveRotary {
-				u = "rad"
-			}
-			add(ch[k], u)
-		case models.FootLoad:
-			add(ch[k], "N")
-		}
-		k += s.nch
+	chUnits := models.ChannelUnits(p.robot)
+	for i, n := range models.Channels(p.robot) {
+		add(n, chUnits[i])
 	}
 	for i := range p.pads {
 		add(p.pads[i].name+".compression", "m")
