@@ -10,14 +10,15 @@ import (
 )
 
 func init() {
-	commands = append(commands, command{"export", "print or write a gain set as JSON, YAML or a C header for firmware", cmdExport})
+	commands = append(commands, command{"export", "print or write a gain set as JSON, YAML or a C header, or the whole controller as a C module, for firmware", cmdExport})
 }
 
 func cmdExport(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("export", stderr)
 	rf := addRigFlags(fs)
-	format := fs.String("format", "c-header", "json, yaml or c-header")
-	out := fs.String("out", "", "write to this file instead of standard output")
+	format := fs.String("format", "c-header", "json, yaml, c-header, or c (the controller as a C99 module, written into the --out directory)")
+	out := fs.String("out", "", "write to this file instead of standard output (with --format c: the directory)")
+	cReal := fs.String("c-real", "float", "with --format c: the module's number type, float or double")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
@@ -36,16 +37,19 @@ func cmdExport(args []string, stdout, stderr io.Writer) error {
 	if *rf.gains != "" {
 		source += " with gains from " + *rf.gains
 	}
+	if *format == "c" {
+		return exportC(g, r.Robot, rf, *out, *cReal)
+	}
 	var data []byte
 	switch *format {
 	case "json":
 		data = control.MarshalGainsJSON(g.Gains())
 	case "yaml":
 		data = control.MarshalGainsYAML(g.Gains())
-	case "c-header", "c":
+	case "c-header":
 		data = g.CHeader(source)
 	default:
-		return usageError{fmt.Errorf("--format %q: want json, yaml or c-header", *format)}
+		return usageError{fmt.Errorf("--format %q: want json, yaml, c-header or c", *format)}
 	}
 	if *out == "" {
 		_, err := stdout.Write(data)
@@ -55,4 +59,30 @@ func cmdExport(args []string, stdout, stderr io.Writer) error {
 		_, err := io.Copy(w, bytes.NewReader(data))
 		return err
 	})
+}
+
+// exportC writes the controller graph as a C module into dir.
+func exportC(g *control.Graph, robot *models.Robot, rf rigFlags, dir, real string) error {
+	if dir == "" {
+		return usageError{fmt.Errorf("--format c writes two files: give the directory with --out")}
+	}
+	if real != "float" && real != "double" {
+		return usageError{fmt.Errorf("--c-real %q: want float or double", real)}
+	}
+	opt := control.COptions{
+		Double:     real == "double",
+		Channels:   models.Channels(robot),
+		Units:      models.ChannelUnits(robot),
+		Actuators:  models.ActuatorNames(robot),
+		Robot:      *rf.model,
+		Controller: *rf.controller,
+		Gains:      *rf.gains,
+	}
+	if opt.Controller == "" {
+		opt.Controller = "the robot's own"
+	}
+	if opt.Gains == "" {
+		opt.Gains = "the controller's own values"
+	}
+	return g.WriteC(dir, opt)
 }
