@@ -205,6 +205,9 @@ func checkReplay(t *testing.T, sent, replayed [][]float64, probe bool) {
 			states[replayed[k][len(sent[k])]] = true
 		}
 	}
+	if probe {
+		t.Logf("the sequencer went through %d of its states", len(states))
+	}
 	if probe && len(states) < 8 {
 		t.Errorf("the sequencer went through %d states; a fair trace steps through most of its twelve", len(states))
 	}
