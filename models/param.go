@@ -21,14 +21,41 @@ import (
 //	battery.voltage                    full voltage; the empty voltage scales along
 //	battery.charge                     initial charge, 0..1
 //	sensors.noise                      Robot.NoiseScale, 1 = as written
+//	sensors.NAME.latency               whole samples (a whole number)
+//	sensors.NAME.bias, sensors.NAME.rate_bias
 //	ground.tilt, ground.friction
 
 // param is one settable number with the check a new value must pass.
 type param struct {
 	ptr   *float64
+	whole *int // instead of ptr, for a count such as a latency in samples
 	check func(float64) error
 	after func() // keeps dependent fields in step
 }
+
+func (p param) get() float64 {
+	if p.whole != nil {
+		return float64(*p.whole)
+	}
+	return *p.ptr
+}
+
+func (p param) set(v float64) {
+	if p.whole != nil {
+		*p.whole = int(v)
+		return
+	}
+	*p.ptr = v
+}
+
+func wholeSamples(v float64) error {
+	if v < 0 || v != math.Trunc(v) || v > 1e6 {
+		return fmt.Errorf("must be a whole number of samples, zero or more")
+	}
+	return nil
+}
+
+func anyValue(float64) error { return nil }
 
 func atLeast0(v float64) error {
 	if v < 0 {
@@ -126,6 +153,8 @@ func params(r *Robot, path string) ([]param, error) {
 		ps, err = padParams(r, path, parts[1:])
 	case "battery":
 		ps, err = batteryParams(r, path, parts[1:])
+	case "sensors":
+		ps, err = sensorParams(r, path, parts[1:])
 	default:
 		ps = wholeRobotParams(r, path)
 	}
@@ -260,6 +289,32 @@ func batteryParams(r *Robot, path string, rest []string) ([]param, error) {
 	return nil, nil
 }
 
+// sensorParams resolves sensors.NAME.latency|bias|rate_bias; sensors.noise
+// is one of wholeRobotParams.
+func sensorParams(r *Robot, path string, rest []string) ([]param, error) {
+	if len(rest) != 2 {
+		return wholeRobotParams(r, path), nil
+	}
+	var s *Sensor
+	for i := range r.Sensors {
+		if r.Sensors[i].Name == rest[0] {
+			s = &r.Sensors[i]
+		}
+	}
+	if s == nil {
+		return nil, fmt.Errorf("parameter %q: no sensor %q", path, rest[0])
+	}
+	switch {
+	case rest[1] == "latency":
+		return []param{{whole: &s.Latency, check: wholeSamples}}, nil
+	case rest[1] == "bias":
+		return []param{{ptr: &s.Bias, check: anyValue}}, nil
+	case rest[1] == "rate_bias" && s.Kind == IMU:
+		return []param{{ptr: &s.RateBias, check: anyValue}}, nil
+	}
+	return nil, nil
+}
+
 // wholeRobotParams resolves the paths that name one number of the robot.
 func wholeRobotParams(r *Robot, path string) []param {
 	switch path {
@@ -282,7 +337,7 @@ func GetParam(r *Robot, path string) (float64, error) {
 	}
 	v := math.Inf(-1)
 	for _, p := range ps {
-		v = math.Max(v, *p.ptr)
+		v = math.Max(v, p.get())
 	}
 	return v, nil
 }
@@ -304,7 +359,7 @@ func SetParam(r *Robot, path string, v float64) error {
 		}
 	}
 	for _, p := range ps {
-		*p.ptr = v
+		p.set(v)
 		if p.after != nil {
 			p.after()
 		}
@@ -312,7 +367,15 @@ func SetParam(r *Robot, path string, v float64) error {
 	return nil
 }
 
-// ParamPaths lists the parameter paths that r has, group paths first.
+// WholeParam reports whether a parameter path names a whole number (a
+// sensor's latency in samples), which SetParam takes only as one.
+func WholeParam(r *Robot, path string) bool {
+	ps, err := params(r, path)
+	return err == nil && len(ps) > 0 && ps[0].whole != nil
+}
+
+// ParamPaths lists the parameter paths that r has, group paths first,
+// but not the sensors' latency and biases, which fits set.
 func ParamPaths(r *Robot) []string {
 	var out []string
 	if len(r.Actuators) > 0 {
