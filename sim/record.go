@@ -20,6 +20,7 @@ type Recorder struct {
 	n            int // rows held
 	capacity     int // 0: unbounded
 	first        int // ring: physical index of the oldest row
+	readingsAt   int // column of the first sensor reading
 }
 
 const chunkRows = 4096
@@ -164,6 +165,7 @@ func (p *Plant) newRecorder(capacity int) *Recorder {
 		add(a.name+".force", force)
 		add(a.name+".current", "A")
 	}
+	readingsAt := len(names)
 	chUnits := models.ChannelUnits(p.robot)
 	for i, n := range models.Channels(p.robot) {
 		add(n, chUnits[i])
@@ -196,7 +198,9 @@ func (p *Plant) newRecorder(capacity int) *Recorder {
 			add(n, "")
 		}
 	}
-	return newRecorder(names, units, capacity)
+	r := newRecorder(names, units, capacity)
+	r.readingsAt = readingsAt
+	return r
 }
 
 // firstSignal is the recorder column of the first controller signal.

@@ -20,7 +20,8 @@ type sensor struct {
 	act       *actuator
 	pad       *pad
 	rng       *rand.Rand
-	noise     float64 // scaled by the robot's NoiseScale
+	pcg       *rand.PCG // rng's source, for Save
+	noise     float64   // scaled by the robot's NoiseScale
 	rateNoise float64
 	stepsPer  float64 // physics steps per sample
 	taken     int64
@@ -38,7 +39,8 @@ func (p *Plant) buildSensors(seed uint64) error {
 	for i := range r.Sensors {
 		ms := &r.Sensors[i]
 		s := &p.sensors[i]
-		*s = sensor{m: ms, rng: rand.New(rand.NewPCG(seed, uint64(i))),
+		pcg := rand.NewPCG(seed, uint64(i))
+		*s = sensor{m: ms, rng: rand.New(pcg), pcg: pcg,
 			noise: ms.Noise * r.NoiseScale, rateNoise: ms.RateNoise * r.NoiseScale}
 		if !(ms.Rate > 0) || !finite(ms.Rate) {
 			return fmt.Errorf("sensor %q: rate %g Hz must be positive", ms.Name, ms.Rate)
