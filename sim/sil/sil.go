@@ -10,6 +10,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
 	"strconv"
 	"strings"
 	"sync"
@@ -132,6 +133,10 @@ func (c *Controller) start() error {
 		return fmt.Errorf("controller program %s: %w", c.program, err)
 	}
 	c.proc, c.ticks, c.rpos, c.rend = p, 0, 0, 0
+	// A controller dropped without Close (a plant let go) takes its
+	// program with it, as a dropped os.File closes; killing a program that
+	// has already exited does nothing.
+	runtime.AddCleanup(c, func(p *process) { p.cmd.Process.Kill() }, p)
 	fail := func(what string) error {
 		p.kill()
 		return fmt.Errorf("controller program %s: at start: %s", c.program, what)

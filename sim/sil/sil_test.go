@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"sync"
 	"testing"
@@ -333,4 +334,25 @@ func BenchmarkExecTick(b *testing.B) {
 		c.Tick(now, readings, cmds)
 		now += 0.005
 	}
+}
+
+func TestDroppedControllerKillsItsProgram(t *testing.T) {
+	// A plant let go without closing its controller (rig.Build's callers)
+	// must not leave the program running: it is killed when collected.
+	useHelper(t, "echo")
+	c, err := Start(os.Args[0], testChannels, testUnits, testActuators, 200, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	done := c.proc.done
+	c = nil
+	for range 100 {
+		runtime.GC()
+		select {
+		case <-done:
+			return
+		case <-time.After(20 * time.Millisecond):
+		}
+	}
+	t.Fatal("the program of a dropped controller is still running")
 }
