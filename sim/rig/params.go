@@ -45,7 +45,7 @@ func (r *Rig) Params(paths []string) (*Params, error) {
 // of the paths): robot parameters on a clone of the robot, gains on top of
 // the rig's gains. The rig is not changed.
 func (ps *Params) Variant(values []float64) (*Rig, error) {
-	v := &Rig{Robot: ps.base.Robot.Clone(), Spec: ps.base.Spec}
+	v := &Rig{Robot: ps.base.Robot.Clone(), Spec: ps.base.Spec, Program: ps.base.Program}
 	var gainPaths []string
 	var gainValues []float64
 	for i, p := range ps.paths {
@@ -74,7 +74,7 @@ func (r *Rig) Variant(paths []string, values []float64) (*Rig, error) {
 // of its own gains; the robot is shared. The paths are checked when the
 // rig is built.
 func (r *Rig) WithGains(paths []string, values []float64) *Rig {
-	return &Rig{Robot: r.Robot, Spec: r.Spec, Gains: r.withGains(paths, values)}
+	return &Rig{Robot: r.Robot, Spec: r.Spec, Gains: r.withGains(paths, values), Program: r.Program}
 }
 
 // withGains is the rig's gain set with some gains replaced or added; nil

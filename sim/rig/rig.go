@@ -13,6 +13,7 @@ import (
 	"teeter/control"
 	"teeter/models"
 	"teeter/sim"
+	"teeter/sim/sil"
 )
 
 // Rig is a robot with the controller that keeps it up and the gains to use:
@@ -23,6 +24,17 @@ type Rig struct {
 	Spec *control.Spec
 	// Gains, when set, override the graph's parameters after it is built.
 	Gains *control.GainSet
+	// Program, when set, drives the robot in place of the graph. It ticks
+	// at ControlRate, and the gains are sent to it as parameter changes
+	// before its first tick.
+	Program *Program
+}
+
+// Program is a controller program run in the loop over the line protocol
+// (sim/sil).
+type Program struct {
+	Path string
+	sil.Options
 }
 
 // Load loads a robot (a file or builtin:NAME) and finds its controller:
@@ -142,14 +154,34 @@ func (r *Rig) ControlRate() float64 {
 }
 
 // Build makes a fresh plant and controller. The controller ticks at
-// ControlRate unless opt sets a rate.
+// ControlRate unless opt sets a rate. A controller program started for the
+// plant is killed once the plant is dropped; the graph is nil then.
 func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
-	g, err := r.Controller()
-	if err != nil {
-		return nil, nil, err
-	}
+	p, g, _, err := r.build(opt)
+	return p, g, err
+}
+
+// build is Build that also returns the controller program it started, for
+// a caller that closes it when done.
+func (r *Rig) build(opt sim.Options) (*sim.Plant, *control.Graph, *sil.Controller, error) {
 	if opt.ControlRate == 0 {
 		opt.ControlRate = r.ControlRate()
+	}
+	if r.Program != nil {
+		prog, err := r.startProgram(opt.ControlRate)
+		if err != nil {
+			return nil, nil, nil, err
+		}
+		p, err := sim.New(r.Robot, prog, opt)
+		if err != nil {
+			prog.Close()
+			return nil, nil, nil, err
+		}
+		return p, nil, prog, nil
+	}
+	g, err := r.Controller()
+	if err != nil {
+		return nil, nil, nil, err
 	}
 	var c sim.Controller = sim.NewHoldPose()
 	if g != nil {
@@ -157,7 +189,24 @@ func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
 	}
 	p, err := sim.New(r.Robot, c, opt)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
-	return p, g, nil
+	return p, g, nil, nil
+}
+
+func (r *Rig) startProgram(rate float64) (*sil.Controller, error) {
+	rb := r.Robot
+	prog, err := sil.Start(r.Program.Path, models.Channels(rb), models.ChannelUnits(rb), models.ActuatorNames(rb), rate, r.Program.Options)
+	if err != nil {
+		return nil, err
+	}
+	if r.Gains != nil {
+		for _, g := range r.Gains.Gains {
+			if err := prog.Set(g.Path, g.Value); err != nil {
+				prog.Close()
+				return nil, err
+			}
+		}
+	}
+	return prog, nil
 }

@@ -39,11 +39,16 @@ const slipEvery = 5
 
 // Run builds a plant, runs it for duration seconds of simulated time or
 // until the robot falls, and returns what there is to measure. A fall is an
-// outcome; a blow-up, a failing controller or a bad model is an error.
+// outcome; a blow-up, a failing controller or a bad model is an error. A
+// failing controller also returns the outcome up to its failure, so that
+// the recording of what led to it is kept.
 func (r *Rig) Run(duration float64, opt sim.Options) (*Outcome, error) {
-	p, _, err := r.Build(opt)
+	p, _, prog, err := r.build(opt)
 	if err != nil {
 		return nil, err
+	}
+	if prog != nil {
+		defer prog.Close() // a program that ends badly after the run does not spoil it
 	}
 	o := &Outcome{Duration: duration}
 	for _, s := range opt.Shoves {
@@ -62,11 +67,14 @@ func (r *Rig) Run(duration float64, opt sim.Options) (*Outcome, error) {
 			break
 		}
 	}
-	if err != nil && !errors.Is(err, sim.ErrFallen) {
+	if err != nil && !errors.Is(err, sim.ErrFallen) && !errors.Is(err, sim.ErrController) {
 		return nil, err
 	}
 	o.Rec = p.Recorder()
 	o.Summary = summarise(p)
+	if errors.Is(err, sim.ErrController) {
+		return o, err
+	}
 	return o, nil
 }
 
