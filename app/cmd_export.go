@@ -19,6 +19,7 @@ func cmdExport(args []string, stdout, stderr io.Writer) error {
 	format := fs.String("format", "c-header", "json, yaml, c-header, or c (the controller as a C99 module, written into the --out directory)")
 	out := fs.String("out", "", "write to this file instead of standard output (with --format c: the directory)")
 	cReal := fs.String("c-real", "float", "with --format c: the module's number type, float or double")
+	withMain := fs.Bool("sil", false, "with --format c: also write "+control.SILMainFile+", a main that runs the module as a program for run --controller-exec")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
@@ -38,7 +39,13 @@ func cmdExport(args []string, stdout, stderr io.Writer) error {
 		source += " with gains from " + *rf.gains
 	}
 	if *format == "c" {
-		return exportC(g, r.Robot, rf, *out, *cReal)
+		if err := exportC(g, r.Robot, rf, *out, *cReal); err != nil || !*withMain {
+			return err
+		}
+		return control.WriteSILMain(*out)
+	}
+	if *withMain {
+		return usageError{fmt.Errorf("--sil goes with --format c")}
 	}
 	var data []byte
 	switch *format {

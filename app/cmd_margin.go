@@ -20,6 +20,7 @@ func init() {
 func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("margin", stderr)
 	rf := addRigFlags(fs)
+	rf.addExecFlags(fs)
 	at := fs.String("at", "", "link to shove (default: the robot's fall-watch link, the torso)")
 	point := fs.String("point", "", "where on the link, x:y in the link frame (default: its centre of mass)")
 	dirs := fs.String("dir", "", "directions, comma separated: left, right, forward, back or degrees (default: left,right or back,forward by the robot's plane)")

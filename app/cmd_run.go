@@ -18,6 +18,7 @@ func init() {
 func cmdRun(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("run", stderr)
 	rf := addRigFlags(fs)
+	rf.addExecFlags(fs)
 	durText := fs.String("duration", "10s", "simulated time to run")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")
 	csvFile := fs.String("csv", "", "write every recorded signal to this CSV file")
@@ -40,9 +41,11 @@ func cmdRun(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	start := time.Now()
-	o, err := r.Run(duration, opt)
-	if err != nil {
-		return err
+	// A failing controller still gives the run up to its failure: its
+	// summary and recording are written before the error.
+	o, runErr := r.Run(duration, opt)
+	if o == nil {
+		return runErr
 	}
 	sum := runSummary{Summary: o.Summary, WallSeconds: time.Since(start).Seconds()}
 	if sum.WallSeconds > 0 {
@@ -54,20 +57,23 @@ func cmdRun(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	if *asJSON {
-		return json.NewEncoder(stdout).Encode(sum)
+		if err := json.NewEncoder(stdout).Encode(sum); err != nil {
+			return err
+		}
+		return runErr
 	}
 	fmt.Fprintf(stdout, "robot %s, %.2f s simulated in %.2f s (%.0fx real time)\n",
 		r.Robot.Name, sum.SimSeconds, sum.WallSeconds, sum.RealtimeFactor)
 	if sum.Fell {
 		fmt.Fprintf(stdout, "FELL at %.3f s: %s\n", sum.FallTime, sum.FallReason)
-	} else {
+	} else if runErr == nil {
 		fmt.Fprintln(stdout, "stayed up")
 	}
 	fmt.Fprintf(stdout, "torso tilt: peak %.2f deg, final %.2f deg\n", sum.PeakTilt, sum.FinalTilt)
 	if *csvFile != "" {
 		fmt.Fprintf(stdout, "recording: %s (%d rows)\n", *csvFile, o.Rec.Len())
 	}
-	return nil
+	return runErr
 }
 
 // runSummary is the run's summary with the wall-clock time it took, which

@@ -27,6 +27,7 @@ func init() {
 func cmdSweep(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("sweep", stderr)
 	rf := addRigFlags(fs)
+	rf.addExecFlags(fs)
 	var params, shoves multiFlag
 	fs.Var(&params, "param", "PATH=FROM:TO:STEPS, a robot parameter or a gain (repeat for a 2-D grid)")
 	fs.Var(&shoves, "shove", "a shove in every run, e.g. at=1s,impulse=2N*s,dir=left (repeatable)")

@@ -24,9 +24,12 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"time"
 
 	"teeter/app/internal/quietinit"
+	"teeter/models"
 	"teeter/sim/rig"
+	"teeter/sim/sil"
 )
 
 // command is one subcommand of teeter.
@@ -115,9 +118,11 @@ func (m *multiFlag) String() string     { return fmt.Sprint(*m) }
 func (m *multiFlag) Set(v string) error { *m = append(*m, v); return nil }
 
 // rigFlags are the flags that choose what is simulated: the robot, its
-// controller and a gain set on top.
+// controller and a gain set on top, and on the commands that take one, a
+// controller program in place of the graph.
 type rigFlags struct {
 	model, controller, gains *string
+	exec, execTimeout        *string // nil without addExecFlags
 }
 
 // addRigFlags declares --model, --controller and --gains.
@@ -129,6 +134,21 @@ func addRigFlags(fs *flag.FlagSet) rigFlags {
 	}
 }
 
+// addExecFlags declares --controller-exec and --exec-timeout.
+func (rf *rigFlags) addExecFlags(fs *flag.FlagSet) {
+	rf.exec = fs.String("controller-exec", "", "run this controller program in place of the controller graph, over the line protocol on its standard input and output (the rate and gain paths still come from the controller)")
+	rf.execTimeout = fs.String("exec-timeout", "1s", "with --controller-exec: how long to wait for the program's ready line and each answer")
+}
+
 func (rf rigFlags) load() (*rig.Rig, error) {
-	return rig.Load(*rf.model, *rf.controller, *rf.gains)
+	r, err := rig.Load(*rf.model, *rf.controller, *rf.gains)
+	if err != nil || rf.exec == nil || *rf.exec == "" {
+		return r, err
+	}
+	timeout, _, err := models.ParseQuantity(*rf.execTimeout, models.Duration)
+	if err != nil || !(timeout > 0) {
+		return nil, usageError{fmt.Errorf("--exec-timeout %q: want a positive duration such as 1s", *rf.execTimeout)}
+	}
+	r.Program = &rig.Program{Path: *rf.exec, Options: sil.Options{Timeout: time.Duration(timeout * float64(time.Second))}}
+	return r, nil
 }
