@@ -33,10 +33,11 @@ type Spec struct {
 	Seed   uint64
 	// Duration of each run, s (default: 3 s after the last shove).
 	Duration float64
-	// EffortWeight weighs control effort against tilt ITAE (default 0.01).
+	// EffortWeight weighs control effort against tilt ITAE, rad*s
+	// (default 0.01).
 	EffortWeight float64
-	// FallPenalty is added for a fall, more the earlier it comes
-	// (default 100); a physics blow-up costs twice it.
+	// FallPenalty is added for a fall, more the earlier it comes, in
+	// CostUnit (default 100); a physics blow-up costs twice it.
 	FallPenalty float64
 	Iterations  int // Nelder-Mead iterations (default 40)
 	Workers     int // runs in flight (0: GOMAXPROCS)
@@ -47,16 +48,31 @@ type Spec struct {
 // Progress reports one cost evaluation.
 type Progress struct {
 	Evaluation int
-	Cost, Best float64
-	BestValues []float64 // gains of the best so far, in Paths order
+	// Iteration is the number of Nelder-Mead iterations done, of at most
+	// Iterations; the last report of a tuning that ran to its end has
+	// Iteration == Iterations, however early it converged.
+	Iteration, Iterations int
+	Cost, Best            float64   // CostUnit
+	BestValues            []float64 // gains of the best so far, in Paths order
 }
+
+// Fraction is the share of the tuning done, 0 to 1.
+func (p Progress) Fraction() float64 {
+	return math.Min(1, float64(p.Iteration)/float64(max(p.Iterations, 1)))
+}
+
+// CostUnit is the unit of a tuning's cost: that of the tilt's ITAE, to
+// which EffortWeight (rad*s) brings the effort (s) and FallPenalty is added.
+const CostUnit = "rad*s^2"
 
 // Result is the outcome of a tuning.
 type Result struct {
 	Paths       []string
 	Start, Best []float64 // gain values
-	StartCost   float64
-	BestCost    float64
+	StartCost   float64   // CostUnit
+	BestCost    float64   // CostUnit
+	// CostMeaning says in a line what the cost sums, with its weights.
+	CostMeaning string
 	Evaluations int
 	Cases       int
 	// Gains is the rig's own gain set (if any) with the tuned values.
@@ -82,7 +98,7 @@ func Run(ctx context.Context, r *rig.Rig, spec Spec) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	out := &Result{Paths: t.spec.Paths, Start: t.start, Cases: len(t.cases)}
+	out := &Result{Paths: t.spec.Paths, Start: t.start, Cases: len(t.cases), CostMeaning: t.spec.costMeaning(len(t.cases))}
 	if out.StartCost, err = t.cost(t.start); err != nil {
 		return nil, err
 	}
@@ -98,9 +114,7 @@ func Run(ctx context.Context, r *rig.Rig, spec Spec) (*Result, error) {
 		if j < out.BestCost {
 			out.BestCost, out.Best = j, v
 		}
-		if t.spec.Progress != nil {
-			t.spec.Progress(Progress{Evaluation: out.Evaluations, Cost: j, Best: out.BestCost, BestValues: slices.Clone(out.Best)})
-		}
+		t.report(out, j, t.iteration)
 		return j
 	}}
 	settings := &optimize.Settings{
@@ -114,9 +128,27 @@ func Run(ctx context.Context, r *rig.Rig, spec Spec) (*Result, error) {
 		return nil, t.failed
 	}
 	out.Status = status(ctx, res, err)
+	if ctx.Err() == nil {
+		t.report(out, out.BestCost, t.spec.Iterations)
+	}
 	out.Gains = *r.WithGains(t.spec.Paths, out.Best).Gains
 	out.Gains.Rate = r.ControlRate()
 	return out, ctx.Err()
+}
+
+// report tells the spec's Progress of an evaluation of cost j.
+func (t *tuner) report(out *Result, j float64, iteration int) {
+	if t.spec.Progress != nil {
+		t.spec.Progress(Progress{Evaluation: out.Evaluations, Iteration: iteration, Iterations: t.spec.Iterations,
+			Cost: j, Best: out.BestCost, BestValues: slices.Clone(out.Best)})
+	}
+}
+
+// costMeaning says what the cost of n cases sums.
+func (s Spec) costMeaning(n int) string {
+	return fmt.Sprintf("sum over %d cases of the torso tilt's ITAE after the shove [%s] + %g rad*s x control effort "+
+		"(integral of the squared commands) [s]; a fall adds %g to %g, the earlier the more, a blow-up %g",
+		n, CostUnit, s.EffortWeight, s.FallPenalty, 2*s.FallPenalty, 2*s.FallPenalty)
 }
 
 // status says why the search stopped: "converged", "iteration limit",
@@ -147,6 +179,8 @@ type tuner struct {
 	cases []tuneCase
 	// failed is the first failure of a run that is not a blow-up.
 	failed error
+	// iteration is the number of Nelder-Mead iterations done.
+	iteration int
 }
 
 func newTuner(ctx context.Context, r *rig.Rig, spec Spec) (*tuner, error) {
@@ -279,7 +313,8 @@ func (t *tuner) caseCost(c tuneCase, values []float64) (float64, error) {
 // search once the context is cancelled or a run has failed.
 func (t *tuner) Init() error { return nil }
 
-func (t *tuner) Record(*optimize.Location, optimize.Operation, *optimize.Stats) error {
+func (t *tuner) Record(_ *optimize.Location, _ optimize.Operation, stats *optimize.Stats) error {
+	t.iteration = stats.MajorIterations
 	if t.failed != nil {
 		return t.failed
 	}

@@ -32,12 +32,22 @@ func TestTuneFindsTheBestGainOfAnIntegrator(t *testing.T) {
 		return 2 * (theta0/(kp*w0*kp*w0) + w*kp*theta0*theta0/(2*w0))
 	}
 	best := math.Cbrt(4 / (w * theta0 * w0))
+	var last Progress
 	res, err := Run(context.Background(), r, Spec{
 		Paths: []string{"servo_loop.kp"}, Shoves: []sim.Shove{{At: 0.5}},
 		Duration: 3.5, EffortWeight: w, Iterations: 40,
+		Progress: func(p Progress) {
+			if p.Fraction() < last.Fraction() {
+				t.Errorf("progress went back from %g to %g", last.Fraction(), p.Fraction())
+			}
+			last = p
+		},
 	})
 	if err != nil {
 		t.Fatal(err)
+	}
+	if last.Fraction() != 1 {
+		t.Errorf("the tuning ended at %g of its progress, not 1", last.Fraction())
 	}
 	t.Logf("kp %.4g -> %.4g (theory %.4g), cost %.4g -> %.4g (theory %.4g at best)",
 		res.Start[0], res.Best[0], best, res.StartCost, res.BestCost, cost(best))
