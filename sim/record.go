@@ -41,6 +41,19 @@ func newRecorder(names, units []string, capacity int) *Recorder {
 	return r
 }
 
+// NewRecorder holds the given columns, all of one length, as a recording:
+// signals made elsewhere, such as a test's curve of known measure.
+func NewRecorder(names, units []string, columns [][]float64) *Recorder {
+	r := newRecorder(names, units, 0)
+	for i := range columns[0] {
+		row := r.next()
+		for c := range columns {
+			row[c] = columns[c][i]
+		}
+	}
+	return r
+}
+
 // next returns the slot for a new row, dropping the oldest in a full ring.
 func (r *Recorder) next() []float64 {
 	nc := len(r.names)
