@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"sort"
 	"sync"
 
 	"golang.org/x/sync/errgroup"
@@ -18,7 +19,8 @@ import (
 )
 
 // Spec asks for the recovery margin: the largest shove the robot survives,
-// per direction. A zero field takes the study's default (see Filled).
+// per direction, over several noise seeds. A zero field takes the study's
+// default (see Filled); the command line and the window both show those.
 type Spec struct {
 	Link  string       // the link shoved; "" is the fall-watch (torso) link
 	Point *models.Vec2 // where on it, link frame; nil is its centre of mass
@@ -27,24 +29,42 @@ type Spec struct {
 	// (default: left and right for a frontal robot, back and forward for a
 	// sagittal one).
 	Dirs []string
-	Tol  float64 // N*s; the answer is within Tol of the true edge (default 0.05)
+	Tol  float64 // N*s; each seed's answer is within Tol of its edge (default 0.05)
 	Max  float64 // N*s; the search gives up above this (default 100)
 	At   float64 // s; when the shove lands (default ShoveAt)
 	// Settle is how long the robot must stay up after the shove, s
 	// (default 3).
 	Settle float64
 	Hold   float64 // s; spread the shove over this long (0: at once)
-	Seed   uint64
-	// Workers bounds the runs in flight (0: GOMAXPROCS). Directions run
-	// side by side and a direction with workers to spare tries several
-	// impulses per round.
+	// Seeds is how many noise seeds each direction is searched with: Seed,
+	// Seed+1, ... (default 8). The margin differs from seed to seed by
+	// several N*s on a noisy robot, so one seed says little.
+	Seeds int
+	Seed  uint64
+	// Workers bounds the runs in flight (0: GOMAXPROCS). Searches (a
+	// direction and a seed each) run side by side, and a search with
+	// workers to spare tries several impulses per round.
 	Workers  int
 	Progress func(done, total int)
 }
 
-// Result is the margin in one direction.
+// Result is the margin in one direction over the seeds.
 type Result struct {
 	Dir string `json:"dir"`
+	// Trusted is the largest impulse every seed survived, N*s (the least
+	// of the seeds' Survived): the number to build on. Median is the
+	// seeds' median Survived; Felled the smallest impulse that felled any
+	// seed (the least Fell; +Inf when none fell below Max).
+	Trusted float64 `json:"trusted_Ns"`
+	Median  float64 `json:"median_Ns"`
+	Felled  float64 `json:"felled_Ns"`
+	Seeds   []Edge  `json:"seeds"`
+	Runs    int     `json:"runs"`
+}
+
+// Edge is the margin in one direction with one seed.
+type Edge struct {
+	Seed uint64 `json:"seed"`
 	// Survived is the largest impulse found survivable, N*s; Fell the
 	// smallest found not to be (Fell - Survived <= Tol unless Capped).
 	Survived float64 `json:"survived_Ns"`
@@ -80,6 +100,9 @@ func (s Spec) Filled(r *models.Robot) Spec {
 	if !(s.Settle > 0) {
 		s.Settle = 3
 	}
+	if s.Seeds <= 0 {
+		s.Seeds = 8
+	}
 	if s.Workers <= 0 {
 		s.Workers = runtime.GOMAXPROCS(0)
 	}
@@ -87,9 +110,12 @@ func (s Spec) Filled(r *models.Robot) Spec {
 }
 
 // Find finds the recovery margin in each direction by bracketing and
-// bisection. Survival is assumed to fall off with the impulse; where it
-// does not, the search still returns an impulse survived next to one not
-// survived, Tol apart. A blow-up counts as not surviving.
+// bisection, once per seed. Survival is assumed to fall off with the
+// impulse; where it does not, each search still returns an impulse
+// survived next to one not survived, Tol apart. A blow-up counts as not
+// surviving. The first seed's search starts cold; the others start from a
+// bracket around its answer, which they widen when their edge lies
+// outside.
 func Find(ctx context.Context, r *rig.Rig, spec Spec) ([]Result, error) {
 	spec = spec.Filled(r.Robot)
 	units := make([]sim.Shove, len(spec.Dirs))
@@ -106,54 +132,156 @@ func Find(ctx context.Context, r *rig.Rig, spec Spec) ([]Result, error) {
 	if _, _, err := r.Build(sim.Options{Shoves: []sim.Shove{probe}}); err != nil {
 		return nil, err
 	}
-	s := &search{ctx: ctx, spec: spec, perDir: max(1, spec.Workers/len(spec.Dirs)), try: func(u sim.Shove, j float64) bool {
-		return survives(r, spec, u, j)
+	stands := make([]*standing, spec.Seeds)
+	for k := range stands {
+		stands[k] = &standing{r: r, spec: spec, seed: spec.Seed + uint64(k)}
+	}
+	searches := len(spec.Dirs) * spec.Seeds
+	s := &search{ctx: ctx, spec: spec, perDir: max(1, spec.Workers/searches), try: func(k int, u sim.Shove, j float64) bool {
+		return stands[k].survives(u, j)
 	}}
-	s.estimate = len(spec.Dirs) * (2 + int(math.Ceil(math.Log2(spec.Max/spec.Tol)/math.Log2(float64(s.perDir+1)))))
-	results := make([]Result, len(spec.Dirs))
-	// Directions side by side, each trying perDir impulses at a time: at
-	// most Workers runs in flight.
+	s.estimate = searches * (2 + int(math.Ceil(math.Log2(spec.Max/spec.Tol)/math.Log2(float64(s.perDir+1)))))
+	edges := make([][]Edge, len(spec.Dirs))
+	for d := range edges {
+		edges[d] = make([]Edge, spec.Seeds)
+	}
+	// The first seed in every direction, then the rest from its answers:
+	// at most Workers runs in flight.
 	var g errgroup.Group
 	g.SetLimit(max(1, min(len(spec.Dirs), spec.Workers)))
 	for d := range spec.Dirs {
 		g.Go(func() error {
-			results[d] = s.direction(spec.Dirs[d], units[d])
+			edges[d][0] = s.direction(0, units[d], nil)
 			return nil
 		})
 	}
 	g.Wait()
+	g.SetLimit(max(1, spec.Workers/s.perDir))
+	for d := range spec.Dirs {
+		for k := 1; k < spec.Seeds; k++ {
+			g.Go(func() error {
+				edges[d][k] = s.direction(k, units[d], &edges[d][0])
+				return nil
+			})
+		}
+	}
+	g.Wait()
+	results := make([]Result, len(spec.Dirs))
+	for d, dir := range spec.Dirs {
+		results[d] = summarise(dir, edges[d])
+	}
 	return results, ctx.Err()
+}
+
+// summarise gathers one direction's seeds.
+func summarise(dir string, edges []Edge) Result {
+	res := Result{Dir: dir, Seeds: edges, Trusted: math.Inf(1), Felled: math.Inf(1)}
+	survived := make([]float64, len(edges))
+	for k, e := range edges {
+		res.Trusted = math.Min(res.Trusted, e.Survived)
+		res.Felled = math.Min(res.Felled, e.Fell)
+		res.Runs += e.Runs
+		survived[k] = e.Survived
+	}
+	sort.Float64s(survived)
+	n := len(survived)
+	res.Median = (survived[(n-1)/2] + survived[n/2]) / 2
+	return res
 }
 
 // search is one margin study under way.
 type search struct {
 	ctx  context.Context
 	spec Spec
-	// try tells whether the robot stays up after the unit shove scaled to
-	// an impulse.
-	try      func(u sim.Shove, j float64) bool
-	perDir   int // impulses tried at once in one direction
+	// try tells whether the robot with the k-th seed stays up after the
+	// unit shove scaled to an impulse.
+	try      func(k int, u sim.Shove, j float64) bool
+	perDir   int // impulses tried at once in one search
 	estimate int // runs expected, for progress
 
 	mu   sync.Mutex
 	done int
 }
 
+// standing holds one seed's robots standing at the shove time, saved there:
+// every run of the search starts from that moment instead of repeating the
+// same lead-in (a robot per run in flight).
+type standing struct {
+	r    *rig.Rig
+	spec Spec
+	seed uint64
+
+	mu   sync.Mutex
+	free []*stand
+}
+
+type stand struct {
+	p     *sim.Plant
+	saved *sim.Saved
+}
+
 // survives runs the rig with the unit shove u scaled to impulse j (0: no
 // shove) and tells whether the robot stayed up.
-func survives(r *rig.Rig, spec Spec, u sim.Shove, j float64) bool {
-	opt := sim.Options{Seed: spec.Seed}
+func (ss *standing) survives(u sim.Shove, j float64) bool {
+	spec := ss.spec
+	shoves := []sim.Shove{}
 	if j > 0 {
-		opt.Shoves = []sim.Shove{{At: spec.At, Link: spec.Link, Point: spec.Point, Hold: spec.Hold,
+		shoves = []sim.Shove{{At: spec.At, Link: spec.Link, Point: spec.Point, Hold: spec.Hold,
 			Impulse: models.Vec2{X: u.Impulse.X * j, Y: u.Impulse.Y * j}}}
 	}
-	o, err := r.Run(spec.At+spec.Hold+spec.Settle, opt)
-	return err == nil && !o.Summary.Fell
+	end := spec.At + spec.Hold + spec.Settle
+	if ss.r.Program != nil {
+		// A controller program cannot be replayed: run it whole.
+		o, err := ss.r.Run(end, sim.Options{Seed: ss.seed, Shoves: shoves})
+		return err == nil && !o.Summary.Fell
+	}
+	st, err := ss.get()
+	if err != nil {
+		return false // fell, blew up or failed before the shove
+	}
+	defer ss.put(st)
+	if err := st.p.Restore(st.saved); err != nil {
+		return false
+	}
+	if err := st.p.Schedule(shoves); err != nil {
+		return false
+	}
+	return st.p.RunFor(end-st.p.Time()) == nil
+}
+
+// get takes a standing robot, making one if none is free.
+func (ss *standing) get() (*stand, error) {
+	ss.mu.Lock()
+	if n := len(ss.free); n > 0 {
+		st := ss.free[n-1]
+		ss.free = ss.free[:n-1]
+		ss.mu.Unlock()
+		return st, nil
+	}
+	ss.mu.Unlock()
+	p, _, err := ss.r.Build(sim.Options{Seed: ss.seed})
+	if err != nil {
+		return nil, err
+	}
+	if err := p.RunFor(ss.spec.At); err != nil {
+		return nil, err
+	}
+	saved, err := p.Save()
+	if err != nil {
+		return nil, err
+	}
+	return &stand{p: p, saved: saved}, nil
+}
+
+func (ss *standing) put(st *stand) {
+	ss.mu.Lock()
+	ss.free = append(ss.free, st)
+	ss.mu.Unlock()
 }
 
 // survives tries one impulse and counts the run for the progress.
-func (s *search) survives(u sim.Shove, j float64) bool {
-	ok := s.try(u, j)
+func (s *search) survives(k int, u sim.Shove, j float64) bool {
+	ok := s.try(k, u, j)
 	if s.spec.Progress != nil {
 		s.mu.Lock()
 		s.done++
@@ -164,12 +292,12 @@ func (s *search) survives(u sim.Shove, j float64) bool {
 }
 
 // tryAll runs the impulses side by side and reports which survived.
-func (s *search) tryAll(u sim.Shove, js []float64) []bool {
+func (s *search) tryAll(k int, u sim.Shove, js []float64) []bool {
 	out := make([]bool, len(js))
 	var g errgroup.Group
 	g.SetLimit(s.perDir)
 	for i, j := range js {
-		g.Go(func() error { out[i] = s.survives(u, j); return nil })
+		g.Go(func() error { out[i] = s.survives(k, u, j); return nil })
 	}
 	g.Wait()
 	return out
@@ -187,10 +315,11 @@ func edge(js []float64, ok []bool, lo, hi float64) (float64, float64) {
 	return lo, hi
 }
 
-// direction searches one direction: a bracket, then bisection.
-func (s *search) direction(dir string, u sim.Shove) Result {
-	res := Result{Dir: dir}
-	lo, hi, done := s.bracket(u, &res)
+// direction searches one direction with the k-th seed: a bracket, then
+// bisection. near is another seed's answer to start from (nil: none).
+func (s *search) direction(k int, u sim.Shove, near *Edge) Edge {
+	res := Edge{Seed: s.spec.Seed + uint64(k)}
+	lo, hi, done := s.bracket(k, u, s.firstTries(near), &res)
 	if done {
 		return res
 	}
@@ -204,30 +333,51 @@ func (s *search) direction(dir string, u sim.Shove) Result {
 		for i := range js {
 			js[i] = lo + (hi-lo)*float64(i+1)/float64(n+1)
 		}
-		ok := s.tryAll(u, js)
+		ok := s.tryAll(k, u, js)
 		res.Runs += n
 		lo, hi = edge(js, ok, lo, hi)
 	}
 	res.Survived, res.Fell = lo, hi
+	// Every impulse tried felled it: does it fall with none?
+	if lo == 0 && s.ctx.Err() == nil {
+		res.Runs++
+		if !s.survives(k, u, 0) {
+			res.Unpushed, res.Fell = true, 0
+		}
+	}
 	return res
 }
 
-// bracket finds an impulse survived and one not: 0 and impulses growing
-// fourfold from 1 N*s. done is set when the search ends there (unpushed
-// fall, capped, or cancelled before a bracket), with res filled in.
-func (s *search) bracket(u sim.Shove, res *Result) (lo, hi float64, done bool) {
-	lo, hi = 0.0, math.NaN()
-	first := []float64{0}
-	for j := 1.0; len(first) < s.perDir+1 && j < s.spec.Max; j *= 4 {
+// firstTries are the impulses the bracket starts with: around another
+// seed's answer when there is one (a quarter of it either side), else
+// growing fourfold from 1 N*s.
+func (s *search) firstTries(near *Edge) []float64 {
+	if near != nil && !near.Unpushed && near.Survived > 0 {
+		g := near.Survived
+		d := math.Max(s.spec.Tol, g/4)
+		if g-d <= 0 {
+			return []float64{math.Min(g+d, s.spec.Max)}
+		}
+		return []float64{g - d, math.Min(g+d, s.spec.Max)}
+	}
+	var first []float64
+	for j := 1.0; len(first) < s.perDir && j < s.spec.Max; j *= 4 {
 		first = append(first, j)
 	}
+	if len(first) == 0 {
+		first = []float64{s.spec.Max}
+	}
+	return first
+}
+
+// bracket finds an impulse survived (0 if none) and one not, trying first
+// and then impulses growing fourfold. done is set when the search ends
+// there (capped, or cancelled before a bracket), with res filled in.
+func (s *search) bracket(k int, u sim.Shove, first []float64, res *Edge) (lo, hi float64, done bool) {
+	lo, hi = 0.0, math.NaN()
 	for s.ctx.Err() == nil && math.IsNaN(hi) {
-		ok := s.tryAll(u, first)
+		ok := s.tryAll(k, u, first)
 		res.Runs += len(first)
-		if first[0] == 0 && !ok[0] {
-			res.Unpushed = true
-			return 0, 0, true
-		}
 		lo, hi = edge(first, ok, lo, hi)
 		if !math.IsNaN(hi) {
 			break
