@@ -28,7 +28,7 @@ func BenchmarkMarginFrontal(b *testing.B) {
 		runs = res[0].Runs + res[1].Runs
 	}
 	b.ReportMetric(float64(runs), "runs")
-	b.ReportMetric((cpuTime() - cpu0).Seconds()/float64(b.N), "cpu-s/op")
+	b.ReportMetric((cpuTime()-cpu0).Seconds()/float64(b.N), "cpu-s/op")
 }
 
 // cpuTime is the processor time this process has used.
