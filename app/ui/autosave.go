@@ -16,12 +16,14 @@ import (
 	"teeter/models"
 )
 
-// Crash safety: the window keeps a copy of the session (the robot as
-// edited, the gains, the robot parameter changes and the file it came
-// from) in the autosave directory, written on every change and every few
-// seconds, and removes it when it closes normally. A copy found at the next
-// start comes from a session that did not close normally, and is offered
-// back.
+// Crash safety: each window keeps a copy of its session (the robot as
+// edited, the gains, the robot parameter changes and the file it came from)
+// in a directory of its own under the autosave directory, written on every
+// change and every few seconds, and removes it when it closes normally.
+// While the window lives it holds a lock on its directory; a directory found
+// at the start with nobody holding its lock comes from a window that did
+// not close normally, and is offered back. Another window still open keeps
+// its lock, so it is never taken for a crash.
 
 // AutosaveEnv names the environment variable that moves the autosave
 // directory (tests use it).
@@ -44,7 +46,58 @@ const (
 	sessionFile = "session.json" // written last: its presence marks a whole autosave
 	robotFile   = "robot.yaml"
 	gainsFile   = "gains.yaml"
+	lockFile    = "lock"
 )
+
+// newSessionDir makes the window's own directory under root and takes its
+// lock, held until the window closes or its process ends.
+func newSessionDir(root string) (string, *os.File, error) {
+	if err := os.MkdirAll(root, 0o755); err != nil {
+		return "", nil, err
+	}
+	dir, err := os.MkdirTemp(root, "window-")
+	if err != nil {
+		return "", nil, err
+	}
+	lock, err := os.Create(filepath.Join(dir, lockFile))
+	if err == nil {
+		err = lockExclusive(lock)
+	}
+	if err != nil {
+		os.RemoveAll(dir)
+		return "", nil, err
+	}
+	return dir, lock, nil
+}
+
+// orphanSession finds the newest whole autosave under root whose window is
+// gone (nobody holds its lock).
+func orphanSession(root string) (dir string, s session, err error) {
+	entries, err := os.ReadDir(root)
+	if err != nil {
+		if errors.Is(err, fs.ErrNotExist) {
+			err = nil
+		}
+		return "", session{}, err
+	}
+	for _, e := range entries {
+		d := filepath.Join(root, e.Name())
+		if !e.IsDir() || heldByAWindow(filepath.Join(d, lockFile)) {
+			continue
+		}
+		got, found, rerr := readSession(d)
+		switch {
+		case rerr != nil:
+			err = rerr
+		case found && (dir == "" || got.Saved.After(s.Saved)):
+			dir, s = d, got
+		}
+	}
+	if dir != "" {
+		err = nil
+	}
+	return dir, s, err
+}
 
 // session is what session.json holds beside the robot and gain files.
 type session struct {
@@ -72,19 +125,25 @@ type autosave struct {
 // holds up the window; a newer session waiting replaces an older one.
 type autosaver struct {
 	dir     string
+	lock    *os.File
 	pending chan autosave
 	quit    chan struct{}
 	done    chan struct{}
 }
 
-func newAutosaver(dir string) *autosaver {
-	a := &autosaver{dir: dir, pending: make(chan autosave, 1), quit: make(chan struct{}), done: make(chan struct{})}
+func newAutosaver(root string) (*autosaver, error) {
+	dir, lock, err := newSessionDir(root)
+	if err != nil {
+		return nil, err
+	}
+	a := &autosaver{dir: dir, lock: lock, pending: make(chan autosave, 1), quit: make(chan struct{}), done: make(chan struct{})}
 	go a.loop()
-	return a
+	return a, nil
 }
 
 func (a *autosaver) loop() {
 	defer close(a.done)
+	defer a.lock.Close() // releases the lock
 	for {
 		select {
 		case <-a.quit:
@@ -116,13 +175,10 @@ func (a *autosaver) queue(s autosave) {
 func (a *autosaver) closeClean() {
 	close(a.quit)
 	<-a.done
-	discardSession(a.dir)
+	os.RemoveAll(a.dir)
 }
 
 func writeSession(dir string, s autosave) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
-	}
 	if err := models.SaveFile(filepath.Join(dir, robotFile), s.robot); err != nil {
 		return err
 	}
@@ -155,39 +211,38 @@ func readSession(dir string) (session, bool, error) {
 	return s, true, nil
 }
 
-func discardSession(dir string) {
-	for _, f := range []string{sessionFile, robotFile, gainsFile} {
-		os.Remove(filepath.Join(dir, f))
-	}
-}
-
 // startAutosave begins keeping the session, first offering back one left
-// by a session that did not close normally (restored at once when restore
-// is set). Nothing is written over the old copy until the user decides.
+// by a window that did not close normally (restored at once when restore
+// is set). The old copy stays until the user decides.
 func (w *Window) startAutosave(restore bool) {
-	dir := autosaveDir()
-	prev, found, err := readSession(dir)
+	root := autosaveDir()
+	prev, s, err := orphanSession(root)
 	begin := func() {
-		w.saver = newAutosaver(dir)
+		saver, err := newAutosaver(root)
+		if err != nil {
+			w.notice.SetText("This session cannot be autosaved: " + err.Error())
+			return
+		}
+		w.saver = saver
 		w.autosave()
 	}
 	switch {
 	case err != nil:
 		w.notice.SetText("The last session's autosave could not be read: " + err.Error())
 		begin()
-	case !found:
+	case prev == "":
 		begin()
 	case restore:
-		w.restoreSession(dir, prev)
+		w.restoreSession(prev, s)
 		begin()
 	default:
 		msg := fmt.Sprintf("teeter did not close normally last time. Restore the session saved at %s (robot %s, %d robot changes, and its gains)?",
-			prev.Saved.Local().Format("2 Jan 15:04:05"), prev.Path, len(prev.Params))
+			s.Saved.Local().Format("2 Jan 15:04:05"), s.Path, len(s.Params))
 		d := dialog.NewConfirm("Restore the last session?", msg, func(ok bool) {
 			if ok {
-				w.restoreSession(dir, prev)
+				w.restoreSession(prev, s)
 			} else {
-				discardSession(dir)
+				os.RemoveAll(prev)
 			}
 			begin()
 		}, w.win)
@@ -221,6 +276,7 @@ func (w *Window) restoreSession(dir string, s session) {
 			w.applyGain(g.Path, g.Value)
 		}
 	}
+	os.RemoveAll(dir) // this window's own autosave holds it from now on
 	w.notice.SetText("Restored the session saved at " + s.Saved.Local().Format("15:04:05"))
 }
 
@@ -230,7 +286,11 @@ func (w *Window) autosave() {
 	if w.saver == nil {
 		return
 	}
-	s := autosave{robot: w.robotToSave(), gains: w.Gains(), sess: session{Path: w.path, Saved: time.Now()}}
+	r, err := w.robotToSave()
+	if err != nil {
+		r = w.currentRobot() // the gains file below still holds every gain
+	}
+	s := autosave{robot: r, gains: w.Gains(), sess: session{Path: w.path, Saved: time.Now()}}
 	for _, p := range w.rorder {
 		s.sess.Params = append(s.sess.Params, sessionParam{p, w.rparam[p]})
 	}

@@ -125,6 +125,12 @@ func (w *Window) editController(edit func(ctrl *models.Value) error) error {
 	if err == nil {
 		err = edit(ctrl)
 	}
+	return w.replaceController(ctrl, err)
+}
+
+// replaceController runs ctrl in place of the robot's controller, unless
+// err (from making ctrl) or the check of ctrl says why not.
+func (w *Window) replaceController(ctrl *models.Value, err error) error {
 	var spec *control.Spec
 	if err == nil {
 		spec, err = checkController(w.robot, ctrl)

@@ -12,6 +12,7 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/dialog"
+	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/driver/software"
 
 	"teeter/control"
@@ -50,10 +51,30 @@ func (w *Window) menu() *fyne.MainMenu {
 	} else {
 		recentItem.ChildMenu = fyne.NewMenu("", recent...)
 	}
+	// The window's shortcuts live on menu items: the desktop driver offers a
+	// shortcut to the main menu before the focused widget, so Ctrl+Z undoes
+	// the window's last change even while a text entry has the focus.
+	open := fyne.NewMenuItem("Open robot…", w.unlessDialog(w.openDialog))
+	open.Shortcut = &desktop.CustomShortcut{KeyName: fyne.KeyO, Modifier: fyne.KeyModifierShortcutDefault}
+	save := fyne.NewMenuItem("Save robot", w.unlessDialog(w.saveRobot))
+	save.Shortcut = &desktop.CustomShortcut{KeyName: fyne.KeyS, Modifier: fyne.KeyModifierShortcutDefault}
+	undo := fyne.NewMenuItem("Undo", w.Undo)
+	undo.Shortcut = &fyne.ShortcutUndo{}
+	redo := fyne.NewMenuItem("Redo", w.Redo)
+	redo.Shortcut = &fyne.ShortcutRedo{}
+	redoShift := fyne.NewMenuItem("Redo", w.Redo)
+	redoShift.Shortcut = &desktop.CustomShortcut{KeyName: fyne.KeyZ, Modifier: fyne.KeyModifierShortcutDefault | fyne.KeyModifierShift}
+	var builtins []*fyne.MenuItem
+	for _, name := range models.BuiltinNames() {
+		builtins = append(builtins, fyne.NewMenuItem(name, func() { w.OpenRobot("builtin:" + name) }))
+	}
+	builtinItem := fyne.NewMenuItem("Built-in robots", nil)
+	builtinItem.ChildMenu = fyne.NewMenu("", builtins...)
 	file := fyne.NewMenu("File",
-		fyne.NewMenuItem("Open robot…", w.openDialog),
+		builtinItem,
+		open,
 		recentItem,
-		fyne.NewMenuItem("Save robot", w.saveRobot),
+		save,
 		fyne.NewMenuItem("Save robot as…", w.saveRobotAs),
 		fyne.NewMenuItemSeparator(),
 		fyne.NewMenuItem("Load gains…", func() { w.openFile(w.LoadGains) }),
@@ -63,16 +84,23 @@ func (w *Window) menu() *fyne.MainMenu {
 		fyne.NewMenuItem("Export traces as CSV…", func() { w.saveFile("traces.csv", w.ExportCSV) }),
 		fyne.NewMenuItem("Export plot as PNG…", func() { w.saveFile("plot.png", w.ExportPlotPNG) }),
 	)
-	edit := fyne.NewMenu("Edit",
-		fyne.NewMenuItem("Undo", w.Undo),
-		fyne.NewMenuItem("Redo", w.Redo),
-	)
+	edit := fyne.NewMenu("Edit", undo, redo, redoShift)
 	sim := fyne.NewMenu("Run",
 		fyne.NewMenuItem("Run / pause", w.toggleRun),
 		fyne.NewMenuItem("Single step", func() { w.after(w.run.StepOnce()) }),
 		fyne.NewMenuItem("Reset", w.reset),
 	)
 	return fyne.NewMainMenu(file, edit, sim)
+}
+
+// unlessDialog runs do only when no dialog is open: a file shortcut
+// pressed over an open file dialog does not open a second one.
+func (w *Window) unlessDialog(do func()) func() {
+	return func() {
+		if w.win.Canvas().Overlays().Top() == nil {
+			do()
+		}
+	}
 }
 
 // report runs a file action and shows its error.
@@ -127,6 +155,7 @@ func (w *Window) OpenRobot(path string) error {
 		return err
 	}
 	w.addRecent(path)
+	w.offerController()
 	return nil
 }
 
@@ -148,6 +177,50 @@ func (w *Window) installRobot(r *models.Robot, path string) error {
 	return nil
 }
 
+// noController says what runs a robot without a controller section.
+const noController = "This robot has no controller: every screw is held where it starts, so nothing balances it."
+
+// fittingController names a built-in controller that builds against the
+// robot's sensors and actuators, or "".
+func fittingController(r *models.Robot) string {
+	for _, name := range control.BuiltinNames() {
+		spec, err := control.Builtin(name)
+		if err == nil {
+			if _, err = control.Build(spec, models.Channels(r), models.ActuatorNames(r)); err == nil {
+				return name
+			}
+		}
+	}
+	return ""
+}
+
+// offerController tells, when a robot without a controller is opened, that
+// every screw is held, and offers a built-in controller that fits it.
+func (w *Window) offerController() {
+	if w.spec != nil {
+		return
+	}
+	name := fittingController(w.robot)
+	if name == "" {
+		dialog.NewInformation("No controller", noController+" Add a controller section to the file to drive it.", w.win).Show()
+		return
+	}
+	d := dialog.NewConfirm("No controller", noController+"\n\nThe built-in "+name+" controller fits its sensors and actuators. Use it?", func(ok bool) {
+		if ok {
+			w.useBuiltinController(name)
+		}
+	}, w.win)
+	d.SetConfirmText("Use " + name)
+	d.SetDismissText("Keep every screw held")
+	d.Show()
+}
+
+// useBuiltinController puts a built-in controller into the robot's
+// controller section, as an edit of the controller.
+func (w *Window) useBuiltinController(name string) {
+	w.replaceController(rig.ControllerSection(&models.Robot{Name: w.robot.Name, Source: "builtin:" + name}))
+}
+
 // CurrentRobot is a copy of the robot as run: the file's robot with the
 // window's parameter and controller changes.
 func (w *Window) CurrentRobot() *models.Robot { return w.currentRobot() }
@@ -160,21 +233,104 @@ func (w *Window) currentRobot() *models.Robot {
 	return r
 }
 
-// robotToSave is the robot as run, with the controller written out: a
-// built-in robot's built-in controller goes into the file, so the file
-// runs the same controller when opened again.
-func (w *Window) robotToSave() *models.Robot {
+// robotToSave is the robot as run, with the controller written out with
+// the gains as set in the window: a built-in robot's built-in controller
+// goes into the file, so the file runs the same controller when opened
+// again.
+func (w *Window) robotToSave() (*models.Robot, error) {
 	r := w.currentRobot()
-	if r.Controller == nil && w.spec != nil {
-		if w.ctrl == nil {
-			w.ctrl, _ = rig.ControllerSection(w.robot)
-		}
-		if w.ctrl != nil {
-			c := w.ctrl.Clone()
-			r.Controller = &c
+	if w.spec == nil {
+		return r, nil
+	}
+	c, err := rig.ControllerSection(w.robot)
+	if err == nil {
+		err = writeGains(c, w.gains)
+	}
+	if err != nil {
+		return nil, err
+	}
+	r.Controller = c
+	return r, nil
+}
+
+// writeGains writes into a controller section every gain whose value
+// differs from the section's: over the number where the file has one, else
+// as a new field of its block. Each value is written in SI and read back, so
+// the file gives exactly the value that runs.
+func writeGains(ctrl *models.Value, gains map[string]float64) error {
+	spec, err := control.Parse(ctrl)
+	if err != nil {
+		return err
+	}
+	blocks, err := blockList(ctrl)
+	if err != nil {
+		return err
+	}
+	var ps models.Problems
+	for _, b := range spec.Blocks {
+		blk := &blocks.Items[blockIndex(blocks, b.Name)]
+		for _, p := range b.Params {
+			v, ok := gains[b.Name+"."+p.Name]
+			if !ok || v == p.Value {
+				continue
+			}
+			at := scalarAt(blk, p.Pos)
+			if at == nil && !strings.Contains(p.Name, ".") {
+				blk.Fields = append(blk.Fields, models.Field{Key: p.Name, Value: scalar("")})
+				at = &blk.Fields[len(blk.Fields)-1].Value
+			}
+			if at == nil || !writeNumber(ctrl, at, b.Name, p.Name, p.Unit, v) {
+				ps.Add(p.Pos, b.Name+"."+p.Name, "the value %g cannot be written into the controller section", v)
+			}
 		}
 	}
-	return r
+	return ps.Err()
+}
+
+// scalarAt finds the number read from pos within a block.
+func scalarAt(v *models.Value, pos models.Pos) *models.Value {
+	if v.Kind == models.Scalar && v.Pos == pos {
+		return v
+	}
+	for i := range v.Items {
+		if s := scalarAt(&v.Items[i], pos); s != nil {
+			return s
+		}
+	}
+	for i := range v.Fields {
+		if s := scalarAt(&v.Fields[i].Value, pos); s != nil {
+			return s
+		}
+	}
+	return nil
+}
+
+// writeNumber sets at to the value, as a bare number or with its SI unit,
+// whichever the controller reads back as exactly that value.
+func writeNumber(ctrl, at *models.Value, block, name, unit string, v float64) bool {
+	num := strconv.FormatFloat(v, 'g', -1, 64)
+	texts := []string{num}
+	if _, k, err := models.ParseQuantity("1 " + unit); err == nil && k.Unit != "" {
+		texts = append(texts, num+" "+k.Unit)
+	}
+	for _, t := range texts {
+		at.Text = t
+		spec, err := control.Parse(ctrl)
+		if err != nil {
+			continue
+		}
+		for _, b := range spec.Blocks {
+			if b.Name != block {
+				continue
+			}
+			for _, p := range b.Params {
+				if p.Name == name && p.Value == v {
+					return true
+				}
+			}
+		}
+	}
+	return false
 }
 
 func (w *Window) saveRobot() {
@@ -187,10 +343,14 @@ func (w *Window) saveRobot() {
 
 func (w *Window) saveRobotAs() { w.saveFile("robot.yaml", w.SaveRobot) }
 
-// SaveRobot writes the robot with the parameter changes made in the window
-// (gains are saved with SaveGains).
+// SaveRobot writes the robot as it runs: the parameter changes made in the
+// window, the controller and its gains as set.
 func (w *Window) SaveRobot(path string) error {
-	if err := models.SaveFile(path, w.robotToSave()); err != nil {
+	r, err := w.robotToSave()
+	if err != nil {
+		return err
+	}
+	if err := models.SaveFile(path, r); err != nil {
 		return err
 	}
 	w.path = path

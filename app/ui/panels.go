@@ -60,7 +60,13 @@ func (w *Window) gainBlocks() (blocks []string, kind map[string]string) {
 func (w *Window) buildGainRows() {
 	w.gainRows = map[string]*gainRow{}
 	w.gainBox.Objects = nil
-	if len(w.params) == 0 {
+	switch {
+	case w.spec == nil:
+		w.gainBox.Add(widget.NewLabel(noController))
+		if name := fittingController(w.robot); name != "" {
+			w.gainBox.Add(widget.NewButton("Use the built-in "+name+" controller", func() { w.useBuiltinController(name) }))
+		}
+	case len(w.params) == 0:
 		w.gainBox.Add(widget.NewLabel("This robot's controller has no tunable parameters."))
 	}
 	undo := widget.NewButtonWithIcon("Undo", theme.ContentUndoIcon(), w.Undo)

@@ -17,7 +17,6 @@ import (
 	"fyne.io/fyne/v2/canvas"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/dialog"
-	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/layout"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
@@ -65,7 +64,6 @@ type Window struct {
 	gains  map[string]float64  // current values as set from the window
 	rparam map[string]float64  // robot parameter changes from the window
 	rorder []string            // their paths, in the order last changed
-	ctrl   *models.Value       // the built-in controller section, for files of a built-in robot
 	hist   history
 
 	view    *robotView
@@ -291,20 +289,6 @@ func (w *Window) build() {
 	w.win.SetMainMenu(w.menu())
 	w.win.Resize(fyne.NewSize(1280, 800))
 	w.win.Canvas().SetOnTypedKey(w.typedKey)
-	for _, sc := range []struct {
-		key fyne.KeyName
-		mod fyne.KeyModifier
-		do  func()
-	}{
-		{fyne.KeyZ, fyne.KeyModifierShortcutDefault, w.Undo},
-		{fyne.KeyZ, fyne.KeyModifierShortcutDefault | fyne.KeyModifierShift, w.Redo},
-		{fyne.KeyY, fyne.KeyModifierShortcutDefault, w.Redo},
-		{fyne.KeyO, fyne.KeyModifierShortcutDefault, w.openDialog},
-		{fyne.KeyS, fyne.KeyModifierShortcutDefault, w.saveRobot},
-	} {
-		do := sc.do
-		w.win.Canvas().AddShortcut(&desktop.CustomShortcut{KeyName: sc.key, Modifier: sc.mod}, func(fyne.Shortcut) { do() })
-	}
 	w.win.SetCloseIntercept(func() { w.win.Close() })
 }
 
@@ -406,7 +390,7 @@ func (w *Window) typedKey(e *fyne.KeyEvent) {
 // setModel installs a newly loaded robot: panels, graph, traces.
 func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
 	w.robot, w.live, w.path, w.spec = r, r, path, spec
-	w.gains, w.rparam, w.rorder, w.ctrl = map[string]float64{}, map[string]float64{}, nil, nil
+	w.gains, w.rparam, w.rorder = map[string]float64{}, map[string]float64{}, nil
 	w.hist = history{}
 	w.params = nil
 	if spec != nil {
