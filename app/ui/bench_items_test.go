@@ -44,12 +44,12 @@ func TestSaveRobotKeepsTheTunedGains(t *testing.T) {
 	// file leaves out) come back exactly when the file is opened again.
 	w, _ := openTest(t, "builtin:frontal")
 	tuned := map[string]float64{
-		"body_loop.kp":                    1.2179,
-		"body_loop.ki":                    0.472,
-		"body_loop.kd":                    0.05,
-		"body_loop.max":                   7.5 * degree,
-		"stepper.first_shift_right.ramp":  1.25,
-		"stepper.shift_left.next1.below":  12,
+		"body_loop.kp":                   1.2179,
+		"body_loop.ki":                   0.472,
+		"body_loop.kd":                   0.05,
+		"body_loop.max":                  7.5 * degree,
+		"stepper.first_shift_right.ramp": 1.25,
+		"stepper.shift_left.next1.below": 12,
 	}
 	for path, v := range tuned {
 		if _, ok := w.gains[path]; !ok {
