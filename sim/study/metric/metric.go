@@ -52,11 +52,11 @@ var metrics = []Metric{
 	{"effort", "s", "integral of the sum of squared actuator commands", Effort},
 	{"travel", "m or rad", "total distance the actuator screws moved, summed over actuators", travel},
 	{"foot_slip", "m", "sideways travel of the pads while loaded, summed over pads", func(o *rig.Outcome) float64 { return o.Slip }},
-	{"osc_amplitude", "deg", "amplitude of the steady torso tilt oscillation in the last window (spectral peak)", func(o *rig.Outcome) float64 {
+	{"osc_amplitude", "deg", fmt.Sprintf("amplitude of the steady torso tilt oscillation over its last %d periods, at least %g s (spectral peak)", OscillationPeriods, OscillationWindow), func(o *rig.Outcome) float64 {
 		a, _ := oscillation(o)
 		return a * 180 / math.Pi
 	}},
-	{"osc_frequency", "Hz", "frequency of the steady torso tilt oscillation in the last window (spectral peak)", func(o *rig.Outcome) float64 {
+	{"osc_frequency", "Hz", fmt.Sprintf("frequency of the steady torso tilt oscillation over its last %d periods, at least %g s (spectral peak)", OscillationPeriods, OscillationWindow), func(o *rig.Outcome) float64 {
 		_, f := oscillation(o)
 		return f
 	}},
@@ -128,20 +128,35 @@ func travel(o *rig.Outcome) float64 {
 	return sum
 }
 
-// OscillationWindow is the length of the last part of a run whose spectrum
+// OscillationWindow is the shortest last part of a run whose spectrum
 // gives the steady oscillation.
 const OscillationWindow = 4.0 // s
+
+// OscillationPeriods is how many periods of the oscillation the window
+// holds at least, where the run is long enough: with fewer, the Hann
+// window's main lobe (four bins wide) spans the peak's neighbours and
+// pulls a slow cycle's frequency onto a bin and its amplitude down.
+const OscillationPeriods = 8
 
 func oscillation(o *rig.Outcome) (amplitude, frequency float64) {
 	t, y := o.Rec.Column("time"), o.Rec.Column("torso_tilt")
 	if len(t) < 16 {
 		return math.NaN(), math.NaN()
 	}
-	i := sort.SearchFloat64s(t, t[len(t)-1]-OscillationWindow)
-	i = max(i, sort.SearchFloat64s(t, o.DisturbAt)) // not the shove itself
+	start := sort.SearchFloat64s(t, o.DisturbAt) // not the shove itself
+	if len(t)-start < 16 {
+		return math.NaN(), math.NaN()
+	}
+	dt := (t[len(t)-1] - t[start]) / float64(len(t)-1-start)
+	// A first look over all of the run after the shove gives the period;
+	// the window is then the last OscillationPeriods of them.
+	window := OscillationWindow
+	if _, f := SpectralPeak(y[start:], dt); f > 0 {
+		window = math.Max(window, OscillationPeriods/f)
+	}
+	i := max(start, sort.SearchFloat64s(t, t[len(t)-1]-window))
 	if len(t)-i < 16 {
 		return math.NaN(), math.NaN()
 	}
-	dt := (t[len(t)-1] - t[i]) / float64(len(t)-1-i)
 	return SpectralPeak(y[i:], dt)
 }
