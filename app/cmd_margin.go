@@ -5,8 +5,10 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"os/signal"
+	"slices"
 	"strings"
 
 	"teeter/models"
@@ -25,14 +27,15 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	point := fs.String("point", "", "where on the link, x:y in the link frame (default: its centre of mass)")
 	dirs := fs.String("dir", "", "directions, comma separated: left, right, forward, back or degrees (default: left,right or back,forward by the robot's plane)")
 	var spec margin.Spec
+	def := spec.Filled(&models.Robot{})
 	quantities := []struct {
 		name, usage string
 		kind        models.Kind
 		dst         *float64
 	}{
-		{"tol", "precision of the answer (default 0.05N*s)", models.Impulse, &spec.Tol},
-		{"max", "largest impulse tried (default 100N*s)", models.Impulse, &spec.Max},
-		{"settle", "time the robot must stay up after the shove (default 3s)", models.Duration, &spec.Settle},
+		{"tol", fmt.Sprintf("precision of each seed's answer (default %gN*s)", def.Tol), models.Impulse, &spec.Tol},
+		{"max", fmt.Sprintf("largest impulse tried (default %gN*s)", def.Max), models.Impulse, &spec.Max},
+		{"settle", fmt.Sprintf("time the robot must stay up after the shove (default %gs)", def.Settle), models.Duration, &spec.Settle},
 		{"hold", "spread the shove over this long (default at once)", models.Duration, &spec.Hold},
 	}
 	texts := make([]*string, len(quantities))
@@ -40,7 +43,8 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 		texts[i] = fs.String(q.name, "", q.usage)
 	}
 	workers := fs.Int("workers", 0, "runs in parallel (default: every core)")
-	seed := fs.Uint64("seed", 1, "seed for sensor noise")
+	seeds := fs.Int("seeds", def.Seeds, "noise seeds each direction is searched with")
+	seed := fs.Uint64("seed", def.Seed, "the first of them")
 	asJSON := fs.Bool("json", false, "print the result as JSON")
 	if err := parseFlags(fs, args); err != nil {
 		return err
@@ -55,7 +59,10 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 		}
 		*q.dst = v
 	}
-	spec.Link, spec.Workers, spec.Seed = *at, *workers, *seed
+	if *seeds < 1 {
+		return usageError{fmt.Errorf("--seeds %d: want at least 1", *seeds)}
+	}
+	spec.Link, spec.Workers, spec.Seeds, spec.Seed = *at, *workers, *seeds, *seed
 	if *point != "" {
 		p, err := parsePoint(*point)
 		if err != nil {
@@ -83,17 +90,25 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 		return json.NewEncoder(stdout).Encode(jsonSafe(res))
 	}
 	spec = spec.Filled(r.Robot)
-	fmt.Fprintf(stdout, "recovery margin of %s (shove at %.2f s, must stay up %.1f s after):\n", r.Robot.Name, spec.At, spec.Settle)
+	fmt.Fprintf(stdout, "recovery margin of %s (shove at %.2f s, must stay up %.1f s after; %d seeds from %d, each within %g N*s):\n",
+		r.Robot.Name, spec.At, spec.Settle, spec.Seeds, spec.Seed, spec.Tol)
+	fmt.Fprintf(stdout, "  %-10s %10s %10s %10s\n", "N*s", "trusted", "median", "felled")
 	for _, m := range res {
-		switch {
-		case m.Unpushed:
-			fmt.Fprintf(stdout, "  %-8s falls without any shove\n", m.Dir)
-		case m.Capped:
-			fmt.Fprintf(stdout, "  %-8s survives even %.3g N*s (the --max)\n", m.Dir, m.Survived)
-		default:
-			fmt.Fprintf(stdout, "  %-8s %.3f N*s (falls at %.3f N*s; %d runs)\n", m.Dir, m.Survived, m.Fell, m.Runs)
+		felled := fmt.Sprintf("%.3f", m.Felled)
+		if math.IsInf(m.Felled, 1) {
+			felled = "none"
+		}
+		fmt.Fprintf(stdout, "  %-10s %10.3f %10.3f %10s   (%d runs)\n", m.Dir, m.Trusted, m.Median, felled, m.Runs)
+		for _, e := range m.Seeds {
+			switch {
+			case e.Unpushed:
+				fmt.Fprintf(stdout, "  %-10s with seed %d it falls without any shove\n", "", e.Seed)
+			case e.Capped:
+				fmt.Fprintf(stdout, "  %-10s with seed %d it survives even %.3g N*s (the --max)\n", "", e.Seed, e.Survived)
+			}
 		}
 	}
+	fmt.Fprintln(stdout, "trusted: survived with every seed; median: over the seeds; felled: the smallest shove that felled any seed")
 	return nil
 }
 
@@ -115,8 +130,14 @@ func parsePoint(text string) (models.Vec2, error) {
 func jsonSafe(res []margin.Result) []margin.Result {
 	out := make([]margin.Result, len(res))
 	for i, r := range res {
-		if r.Capped || r.Unpushed {
-			r.Fell = -1
+		r.Seeds = slices.Clone(r.Seeds)
+		for k := range r.Seeds {
+			if math.IsInf(r.Seeds[k].Fell, 1) {
+				r.Seeds[k].Fell = -1
+			}
+		}
+		if math.IsInf(r.Felled, 1) {
+			r.Felled = -1
 		}
 		out[i] = r
 	}

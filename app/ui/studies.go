@@ -112,7 +112,7 @@ type studiesPanel struct {
 
 	margin                          *studyJob
 	mDirs, mLink                    *widget.Entry
-	mSettle, mTol, mMax             *numberField
+	mSettle, mTol, mMax, mSeeds     *numberField
 	sweep                           *studyJob
 	sAxis1, sAxis2, sShove          *widget.Entry
 	sMetric                         *widget.Select
@@ -137,6 +137,7 @@ func newStudiesPanel(w *Window) *studiesPanel {
 	p.mSettle = newNumberField("s", 0.1, 60, nil)
 	p.mTol = newNumberField("N*s", 0.001, 100, nil)
 	p.mMax = newNumberField("N*s", 0.01, 1000, nil)
+	p.mSeeds = newNumberField("", 1, 64, nil)
 	p.sAxis1, p.sAxis2, p.sShove = widget.NewEntry(), widget.NewEntry(), widget.NewEntry()
 	p.sAxis2.SetPlaceHolder("optional second parameter, for a heat map")
 	p.sShove.SetPlaceHolder("none, or at=0.5s,impulse=2N*s,dir=left")
@@ -162,6 +163,7 @@ func (p *studiesPanel) setRobot(r *models.Robot, params []control.ParamInfo, blo
 	p.mSettle.show(m.Settle)
 	p.mTol.show(m.Tol)
 	p.mMax.show(m.Max)
+	p.mSeeds.show(float64(m.Seeds))
 	p.mLink.SetText("")
 	axis := ""
 	if len(r.Actuators) > 0 {
@@ -195,6 +197,7 @@ func (p *studiesPanel) object() fyne.CanvasObject {
 		widget.NewFormItem("Stay up for", p.mSettle.object()),
 		widget.NewFormItem("Within", p.mTol.object()),
 		widget.NewFormItem("Give up above", p.mMax.object()),
+		widget.NewFormItem("Noise seeds", p.mSeeds.object()),
 	)
 	sForm := widget.NewForm(
 		widget.NewFormItem("Parameter", p.sAxis1),
@@ -220,7 +223,7 @@ func (p *studiesPanel) object() fyne.CanvasObject {
 	}
 	return container.NewVScroll(container.NewVBox(intro,
 		widget.NewSeparator(), head("Recovery margin"),
-		note("The largest shove the robot takes and stays up, in each direction (left, right, forward, back, up, down or degrees from +x)."),
+		note("The largest shove the robot takes and stays up, in each direction (left, right, forward, back, up, down or degrees from +x), searched once per noise seed: the margin moves by several N*s from seed to seed, so trust the shove every seed survived."),
 		p.margin.object(mForm),
 		widget.NewSeparator(), head("Sweep"),
 		note("Runs a grid of values, PATH=FROM:TO:STEPS: a robot parameter such as actuators.backlash or a gain such as body_loop.kp."),
@@ -273,44 +276,65 @@ func fraction(progress func(float64)) func(done, total int) {
 }
 
 func (p *studiesPanel) startMargin() {
-	vals, ok := read(p.mSettle, p.mTol, p.mMax)
+	vals, ok := read(p.mSettle, p.mTol, p.mMax, p.mSeeds)
 	if !ok {
 		return
 	}
 	spec := margin.Spec{Link: strings.TrimSpace(p.mLink.Text), Dirs: splitList(p.mDirs.Text),
-		Settle: vals[0], Tol: vals[1], Max: vals[2], Workers: workers()}
+		Settle: vals[0], Tol: vals[1], Max: vals[2], Seeds: int(vals[3]), Workers: workers()}
 	r := p.rig()
 	p.margin.run(func(ctx context.Context, progress func(float64)) func() {
 		spec.Progress = fraction(progress)
 		res, err := margin.Find(ctx, r, spec)
-		return func() { p.showMargin(res, err) }
+		if err != nil && !errors.Is(err, context.Canceled) {
+			return func() { p.margin.status.SetText("The margin study failed: " + err.Error()) }
+		}
+		// Draw off the UI thread; the plot is read back to show.
+		var img image.Image
+		pngFile, plotErr := autoSave("margin", ".png", func(path string) error { return plot.Margin(res, path) })
+		if plotErr == nil {
+			img, plotErr = readPNG(pngFile)
+		}
+		return func() { p.showMargin(res, err, spec.Filled(r.Robot), img, plotErr) }
 	})
 }
 
-func (p *studiesPanel) showMargin(res []margin.Result, err error) {
+func (p *studiesPanel) showMargin(res []margin.Result, err error, spec margin.Spec, img image.Image, plotErr error) {
 	j := p.margin
-	if err != nil && !errors.Is(err, context.Canceled) {
-		j.status.SetText("The margin study failed: " + err.Error())
-		return
-	}
 	p.lastMargin = res
-	grid := container.NewGridWithColumns(4, bold("Direction"), bold("Survives"), bold("Falls at"), bold("Runs"))
+	grid := container.NewGridWithColumns(6, bold("Direction"), bold("Every seed survives"), bold("Median"), bold("Felled a seed at"), bold("Seeds' spread"), bold("Runs"))
+	ns := func(v float64) string { return fmt.Sprintf("%.3g N*s", v) }
 	for _, r := range res {
-		survived, fell := fmt.Sprintf("%.3g N*s", r.Survived), fmt.Sprintf("%.3g N*s", r.Fell)
-		switch {
-		case r.Unpushed:
-			survived, fell = "—", "falls unpushed"
-		case r.Capped:
-			fell = "not within the limit"
-		case math.IsNaN(r.Fell):
-			fell = "not found yet"
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, e := range r.Seeds {
+			lo, hi = math.Min(lo, e.Survived), math.Max(hi, e.Survived)
 		}
-		grid.Add(widget.NewLabel(r.Dir))
-		grid.Add(widget.NewLabel(survived))
-		grid.Add(widget.NewLabel(fell))
-		grid.Add(widget.NewLabel(strconv.Itoa(r.Runs)))
+		trusted, felled, spread := ns(r.Trusted), ns(r.Felled), ns(lo)+" to "+ns(hi)
+		switch {
+		case math.IsInf(r.Felled, 1):
+			felled = "none within the limit"
+		case math.IsNaN(r.Felled):
+			felled = "not found yet"
+		}
+		for _, e := range r.Seeds {
+			if e.Unpushed {
+				trusted, felled = "—", fmt.Sprintf("falls unpushed (seed %d)", e.Seed)
+			}
+		}
+		for _, s := range []string{r.Dir, trusted, ns(r.Median), felled, spread, strconv.Itoa(r.Runs)} {
+			grid.Add(widget.NewLabel(s))
+		}
 	}
-	j.result.Objects = []fyne.CanvasObject{grid}
+	j.result.Objects = []fyne.CanvasObject{grid,
+		widget.NewLabel(fmt.Sprintf("Over %d noise seeds from seed %d, each within %g N*s.", spec.Seeds, spec.Seed, spec.Tol))}
+	if plotErr != nil {
+		j.result.Add(widget.NewLabel("No plot: " + plotErr.Error()))
+	} else {
+		im := canvas.NewImageFromImage(img)
+		im.FillMode = canvas.ImageFillContain
+		im.SetMinSize(fyne.NewSize(480, 360))
+		j.result.Add(im)
+	}
 	state := "Done"
 	if err != nil {
 		state = "Cancelled: the brackets found so far"
@@ -323,12 +347,19 @@ func (p *studiesPanel) showMargin(res []margin.Result, err error) {
 	j.result.Refresh()
 }
 
+// writeMarginCSV writes a line per direction and seed, after a line per
+// direction over all seeds (seed "all").
 func writeMarginCSV(path string, res []margin.Result) error {
 	return models.WriteFileAtomic(path, func(w io.Writer) error {
 		cw := csv.NewWriter(w)
-		cw.Write([]string{"direction", "survived [N*s]", "fell [N*s]", "capped", "falls_unpushed", "runs"})
+		cw.Write([]string{"direction", "seed", "survived [N*s]", "fell [N*s]", "median [N*s]", "capped", "falls_unpushed", "runs"})
 		for _, r := range res {
-			cw.Write([]string{r.Dir, formatNum(r.Survived), formatNum(r.Fell), strconv.FormatBool(r.Capped), strconv.FormatBool(r.Unpushed), strconv.Itoa(r.Runs)})
+			cw.Write([]string{r.Dir, "all", formatNum(r.Trusted), formatNum(r.Felled), formatNum(r.Median), "", "", strconv.Itoa(r.Runs)})
+		}
+		for _, r := range res {
+			for _, e := range r.Seeds {
+				cw.Write([]string{r.Dir, strconv.FormatUint(e.Seed, 10), formatNum(e.Survived), formatNum(e.Fell), "", strconv.FormatBool(e.Capped), strconv.FormatBool(e.Unpushed), strconv.Itoa(e.Runs)})
+			}
 		}
 		cw.Flush()
 		return cw.Error()

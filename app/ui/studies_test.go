@@ -75,6 +75,7 @@ func TestMarginStudyFromTheWindow(t *testing.T) {
 	p.mSettle.Entry.SetText("0.5 s")
 	p.mTol.Entry.SetText("1")
 	p.mMax.Entry.SetText("4")
+	p.mSeeds.Entry.SetText("2")
 	test.Tap(p.margin.startBtn)
 	if !p.margin.running() || !p.margin.startBtn.Disabled() {
 		t.Fatalf("the study did not start: %q", p.margin.status.Text)
@@ -89,23 +90,50 @@ func TestMarginStudyFromTheWindow(t *testing.T) {
 	t.Logf("margin: %+v", p.lastMargin)
 	shown := strings.Join(labels(p.margin.result), "|")
 	for _, r := range p.lastMargin {
-		// The bracket the margin study promises (sim/study MarginResult):
-		// survived below fell and no more than the tolerance apart, unless
-		// the search stopped at the limit or the robot falls unpushed.
-		if !r.Capped && !r.Unpushed && !(r.Survived < r.Fell && r.Fell-r.Survived <= 1+1e-9) {
-			t.Errorf("%s: survived %g, fell %g", r.Dir, r.Survived, r.Fell)
+		if len(r.Seeds) != 2 {
+			t.Errorf("%s: %d seeds searched, asked for 2", r.Dir, len(r.Seeds))
+		}
+		for _, e := range r.Seeds {
+			// The bracket the margin study promises (sim/study/margin
+			// Edge): survived below fell and no more than the tolerance
+			// apart, unless the search stopped at the limit or the robot
+			// falls unpushed.
+			if !e.Capped && !e.Unpushed && !(e.Survived < e.Fell && e.Fell-e.Survived <= 1+1e-9) {
+				t.Errorf("%s, seed %d: survived %g, fell %g", r.Dir, e.Seed, e.Survived, e.Fell)
+			}
 		}
 		if !strings.Contains(shown, r.Dir) {
 			t.Errorf("the table does not show %s: %s", r.Dir, shown)
 		}
 	}
+	if !strings.Contains(shown, "Over 2 noise seeds") {
+		t.Errorf("the seed count is not shown: %s", shown)
+	}
+	if !hasImage(p.margin.result) {
+		t.Error("no margin plot is shown")
+	}
 	rows := readCSV(t, "margin-*.csv")
-	if len(rows) != 3 || rows[1][0] != "left" || rows[2][0] != "right" {
+	if len(rows) != 7 || rows[1][0] != "left" || rows[2][0] != "right" || rows[1][1] != "all" {
 		t.Fatalf("margin CSV %v", rows)
 	}
-	if v, _ := strconv.ParseFloat(rows[1][1], 64); v != p.lastMargin[0].Survived {
-		t.Fatalf("CSV says %s survived, the table %g", rows[1][1], p.lastMargin[0].Survived)
+	if v, _ := strconv.ParseFloat(rows[1][2], 64); v != p.lastMargin[0].Trusted {
+		t.Fatalf("CSV says %s survived by every seed, the table %g", rows[1][2], p.lastMargin[0].Trusted)
 	}
+}
+
+// hasImage tells whether a container holds an image.
+func hasImage(o fyne.CanvasObject) bool {
+	switch v := o.(type) {
+	case *canvas.Image:
+		return true
+	case *fyne.Container:
+		for _, c := range v.Objects {
+			if hasImage(c) {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 func TestSweepStudyShowsItsPlotAndCancelKeepsPoints(t *testing.T) {

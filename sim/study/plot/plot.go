@@ -1,146 +1,121 @@
-// Package plot draws sweep results: a line over the parameter of a 1-D
-// sweep, a heat map over the two of a 2-D one. The command line and the
-// window both use it.
+// Package plot draws the studies' results, for the command line and the
+// window alike: a sweep as a line over its parameter or a heat map over
+// two, with a colour bar and a contour where the metric crosses a
+// threshold; the recovery margin per direction over the seeds. Axes read
+// in the units a builder uses (mm, deg), text is a plain sans-serif.
 package plot
 
 import (
 	"fmt"
-	"image/color"
 	"io"
 	"math"
 	"path/filepath"
 	"strings"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/palette/moreland"
-	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
 
 	"teeter/models"
-	"teeter/sim/study/sweep"
 )
 
-// Sweep draws one metric of a sweep into file, PNG or SVG by its
-// extension: a line over the parameter for a 1-D sweep, a heat map over
-// the two parameters for a 2-D one. Failed points are left out (a gap in
-// the line, a grey cell in the map).
-func Sweep(s *sweep.Result, metric, file string) error {
+// figure is a plot ready to draw and, for a heat map, its colour bar.
+type figure struct {
+	main *plot.Plot
+	bar  *plot.Plot
+	// contour is the threshold's contour, in the plot's units.
+	contour []segment
+}
+
+const (
+	width    = 16 * vg.Centimeter
+	height   = 12 * vg.Centimeter
+	barWidth = 2.6 * vg.Centimeter
+)
+
+// write draws the figure into file, PNG or SVG by its extension.
+func (f *figure) write(file string) error {
 	format := strings.TrimPrefix(strings.ToLower(filepath.Ext(file)), ".")
 	if format != "png" && format != "svg" {
 		return fmt.Errorf("plot %s: want a .png or .svg file", file)
 	}
-	wt, err := sweepPlot(s, metric, format)
+	c, err := draw.NewFormattedCanvas(width, height, format)
 	if err != nil {
+		return err
+	}
+	if err := f.draw(draw.New(c)); err != nil {
 		return fmt.Errorf("plot %s: %v", file, err)
 	}
 	return models.WriteFileAtomic(file, func(w io.Writer) error {
-		_, err := wt.WriteTo(w)
+		_, err := c.WriteTo(w)
 		return err
 	})
 }
 
-func sweepPlot(s *sweep.Result, metric, format string) (wt io.WriterTo, err error) {
+func (f *figure) draw(dc draw.Canvas) (err error) {
 	defer func() {
 		if e := recover(); e != nil { // the plot library panics on data it cannot draw
-			wt, err = nil, fmt.Errorf("cannot draw: %v", e)
+			err = fmt.Errorf("cannot draw: %v", e)
 		}
 	}()
-	mi := -1
-	for i, m := range s.Metrics {
-		if m == metric || metric == "" && i == 0 {
-			mi = i
-		}
+	if f.bar == nil {
+		f.main.Draw(dc)
+		return nil
 	}
-	if mi < 0 {
-		return nil, fmt.Errorf("the sweep has no metric %q (it has %s)", metric, strings.Join(s.Metrics, ", "))
-	}
-	label := s.Metrics[mi]
-	if s.Units[mi] != "" {
-		label += " [" + s.Units[mi] + "]"
-	}
+	f.main.Draw(draw.Crop(dc, 0, -barWidth, 0, 0))
+	f.bar.Draw(draw.Crop(dc, width-barWidth, 0, 0, 0))
+	return nil
+}
+
+// newPlot is an empty plot with every text in Liberation Sans.
+func newPlot() *plot.Plot {
 	p := plot.New()
-	switch len(s.Axes) {
-	case 1:
-		var xy plotter.XYs
-		for _, pt := range s.Points {
-			if v := pt.Metrics[mi]; !math.IsNaN(v) && !math.IsInf(v, 0) {
-				xy = append(xy, plotter.XY{X: pt.Values[0], Y: v})
-			}
-		}
-		if len(xy) == 0 {
-			return nil, fmt.Errorf("no point has a finite %s", metric)
-		}
-		line, points, err := plotter.NewLinePoints(xy)
-		if err != nil {
-			return nil, err
-		}
-		p.Add(line, points, plotter.NewGrid())
-		p.X.Label.Text = s.Axes[0]
-		p.Y.Label.Text = label
-		p.Title.Text = label + " against " + s.Axes[0]
-	case 2:
-		g, err := newSweepGrid(s, mi)
-		if err != nil {
-			return nil, err
-		}
-		hm := plotter.NewHeatMap(g, moreland.SmoothBlueRed().Palette(64))
-		if hm.Min > hm.Max {
-			return nil, fmt.Errorf("no point has a finite %s", metric)
-		}
-		if hm.Min == hm.Max {
-			hm.Max = hm.Min + 1
-		}
-		hm.NaN = plotColourGrey
-		p.Add(hm)
-		p.X.Label.Text = s.Axes[1]
-		p.Y.Label.Text = s.Axes[0]
-		p.Title.Text = fmt.Sprintf("%s: blue %.4g to red %.4g", label, hm.Min, hm.Max)
-	default:
-		return nil, fmt.Errorf("can plot 1 or 2 parameters, not %d", len(s.Axes))
+	sans := func(f *font.Font) { f.Variant = "Sans" }
+	sans(&p.Title.TextStyle.Font)
+	for _, a := range []*plot.Axis{&p.X, &p.Y} {
+		sans(&a.Label.TextStyle.Font)
+		sans(&a.Tick.Label.Font)
 	}
-	return p.WriterTo(16*vg.Centimeter, 12*vg.Centimeter, format)
+	sans(&p.Legend.TextStyle.Font)
+	return p
 }
 
-// plotColourGrey marks the cells of failed points.
-var plotColourGrey = color.Gray{Y: 0xbb}
-
-// sweepGrid lays a 2-D sweep out for a heat map: columns along the second
-// axis, rows along the first.
-type sweepGrid struct {
-	xs, ys []float64
-	z      [][]float64 // [row][col]
+// builderUnits are the units a builder reads quantities of an SI unit in,
+// with the factor from SI. The others show as they are.
+var builderUnits = map[string]struct {
+	unit  string
+	scale float64
+}{
+	"m":     {"mm", 1000},
+	"rad":   {"deg", 180 / math.Pi},
+	"m/s":   {"mm/s", 1000},
+	"rad/s": {"deg/s", 180 / math.Pi},
 }
 
-func newSweepGrid(s *sweep.Result, mi int) (*sweepGrid, error) {
-	xIndex, yIndex := map[float64]int{}, map[float64]int{}
-	g := &sweepGrid{}
-	for _, pt := range s.Points {
-		if _, ok := yIndex[pt.Values[0]]; !ok {
-			yIndex[pt.Values[0]] = len(g.ys)
-			g.ys = append(g.ys, pt.Values[0])
-		}
-		if _, ok := xIndex[pt.Values[1]]; !ok {
-			xIndex[pt.Values[1]] = len(g.xs)
-			g.xs = append(g.xs, pt.Values[1])
-		}
+// display is the unit to show a quantity of SI unit si in and the factor
+// to it.
+func display(si string) (string, float64) {
+	if u, ok := builderUnits[si]; ok {
+		return u.unit, u.scale
 	}
-	if len(g.xs) < 2 || len(g.ys) < 2 {
-		return nil, fmt.Errorf("a heat map needs at least two values of each parameter")
-	}
-	g.z = make([][]float64, len(g.ys))
-	for r := range g.z {
-		g.z[r] = make([]float64, len(g.xs))
-		for c := range g.z[r] {
-			g.z[r][c] = math.NaN()
-		}
-	}
-	for _, pt := range s.Points {
-		g.z[yIndex[pt.Values[0]]][xIndex[pt.Values[1]]] = pt.Metrics[mi]
-	}
-	return g, nil
+	return si, 1
 }
 
-func (g *sweepGrid) Dims() (c, r int)   { return len(g.xs), len(g.ys) }
-func (g *sweepGrid) Z(c, r int) float64 { return g.z[r][c] }
-func (g *sweepGrid) X(c int) float64    { return g.xs[c] }
-func (g *sweepGrid) Y(r int) float64    { return g.ys[r] }
+// label is a name with its unit in brackets, if it has one.
+func label(name, unit string) string {
+	if unit == "" {
+		return name
+	}
+	return name + " [" + unit + "]"
+}
+
+// pad widens an axis by a share of its span on each side, so the points
+// at its ends are drawn whole.
+func pad(a *plot.Axis, share float64) {
+	d := (a.Max - a.Min) * share
+	if d == 0 {
+		d = math.Max(math.Abs(a.Max)*share, share)
+	}
+	a.Min, a.Max = a.Min-d, a.Max+d
+}
