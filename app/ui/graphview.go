@@ -13,13 +13,6 @@ import (
 	"teeter/control"
 )
 
-var (
-	colBlockFill     = color.RGBA{0xfa, 0xf8, 0xf3, 0xff}
-	colBlockEdge     = color.RGBA{0x5a, 0x6b, 0x7a, 0xff}
-	colBlockSelected = color.RGBA{0xe0, 0x9f, 0x1f, 0xff}
-	colWire          = color.RGBA{0x7a, 0x86, 0x91, 0xff}
-)
-
 // blockInputs lists, for each block of a spec, the blocks wired into it.
 func blockInputs(spec *control.Spec) [][]int {
 	byName := map[string]int{}
@@ -49,14 +42,14 @@ type blockBox struct {
 
 func newBlockBox(name, kind string, onTapped func()) *blockBox {
 	b := &blockBox{onTapped: onTapped}
-	b.rect = canvas.NewRectangle(colBlockFill)
-	b.rect.StrokeColor = colBlockEdge
+	b.rect = canvas.NewRectangle(pal.BlockFill)
+	b.rect.StrokeColor = pal.BlockEdge
 	b.rect.StrokeWidth = 1.5
 	b.rect.CornerRadius = 8
-	b.name = canvas.NewText(name, colOutline)
+	b.name = canvas.NewText(name, pal.Outline)
 	b.name.TextStyle.Bold = true
 	b.name.Alignment = fyne.TextAlignCenter
-	b.kind = canvas.NewText(kind, colBlockEdge)
+	b.kind = canvas.NewText(kind, pal.BlockEdge)
 	b.kind.TextSize = theme.TextSize() * 0.85
 	b.kind.Alignment = fyne.TextAlignCenter
 	b.ExtendBaseWidget(b)
@@ -75,9 +68,9 @@ func (b *blockBox) Tapped(*fyne.PointEvent) {
 
 func (b *blockBox) setSelected(on bool) {
 	if on {
-		b.rect.StrokeColor, b.rect.StrokeWidth = colBlockSelected, 3
+		b.rect.StrokeColor, b.rect.StrokeWidth = pal.BlockSelected, 3
 	} else {
-		b.rect.StrokeColor, b.rect.StrokeWidth = colBlockEdge, 1.5
+		b.rect.StrokeColor, b.rect.StrokeWidth = pal.BlockEdge, 1.5
 	}
 	b.rect.Refresh()
 }
@@ -148,12 +141,12 @@ func (g *graphView) setSpec(spec *control.Spec) {
 				mid = ax + columnGap/3
 			}
 			for _, seg := range [][4]float32{{ax, ay, mid, ay}, {mid, ay, mid, by}, {mid, by, bx, by}} {
-				l := canvas.NewLine(colWire)
+				l := canvas.NewLine(pal.Wire)
 				l.StrokeWidth = 1.5
 				l.Position1, l.Position2 = fyne.NewPos(seg[0], seg[1]), fyne.NewPos(seg[2], seg[3])
 				g.content.Add(l)
 			}
-			dot := canvas.NewCircle(colWire)
+			dot := canvas.NewCircle(pal.Wire)
 			dot.Move(fyne.NewPos(bx-3, by-3))
 			dot.Resize(fyne.NewSize(6, 6))
 			g.content.Add(dot)

@@ -110,7 +110,7 @@ func (rv *robotView) render(w, h int) image.Image {
 	}
 	rv.v = rv.currentView(rv.img.Bounds().Dx(), rv.img.Bounds().Dy())
 	if rv.sc == nil {
-		rv.dc.SetColor(colBackground)
+		rv.dc.SetColor(pal.Paper)
 		rv.dc.Clear()
 		return rv.img
 	}
@@ -148,7 +148,7 @@ func (rv *robotView) drawShoveArrow() {
 	dc := rv.dc
 	ax, ay := rv.v.toPixel(rv.dragStart)
 	bx, by := rv.v.toPixel(rv.dragNow)
-	dc.SetColor(colShove)
+	dc.SetColor(pal.Shove)
 	dc.SetLineWidth(3)
 	dc.DrawLine(ax, ay, bx, by)
 	dc.Stroke()

@@ -80,48 +80,26 @@ func (v view) toWorld(x, y float64) models.Vec2 {
 	return models.Vec2{X: v.Center.X + (x-float64(v.W)/2)/v.Scale, Y: v.Center.Y - (y-float64(v.H)/2)/v.Scale}
 }
 
-// Colours of the robot view, chosen for contrast on a light background.
-var (
-	colBackground = color.RGBA{0xf4, 0xf2, 0xec, 0xff}
-	colGround     = color.RGBA{0x8a, 0x7f, 0x6c, 0xff}
-	colGroundLine = color.RGBA{0x4a, 0x42, 0x36, 0xff}
-	colTorso      = color.RGBA{0x2f, 0x6d, 0x9e, 0xff}
-	colLimb       = color.RGBA{0x7d, 0xa4, 0xc4, 0xff}
-	colOutline    = color.RGBA{0x1c, 0x2b, 0x38, 0xff}
-	colJoint      = color.RGBA{0xf4, 0xf2, 0xec, 0xff}
-	colActuator   = color.RGBA{0x3c, 0x3c, 0x3c, 0xff}
-	colSlack      = color.RGBA{0xe0, 0x9f, 0x1f, 0xff}
-	colSlackEdge  = color.RGBA{0xc0, 0x39, 0x2b, 0xff}
-	colPad        = color.RGBA{0x55, 0x55, 0x55, 0xff}
-	colPadLoad    = color.RGBA{0x2e, 0x8b, 0x57, 0xff}
-	colBallast    = color.RGBA{0x6b, 0x4c, 0x9a, 0xff}
-	colIMU        = color.RGBA{0xd3, 0x54, 0x00, 0xff}
-	colCOM        = color.RGBA{0x11, 0x11, 0x11, 0xff}
-	colCOP        = color.RGBA{0x2e, 0x8b, 0x57, 0xff}
-	colSupport    = color.NRGBA{0x2e, 0x8b, 0x57, 0x70} // translucent: not premultiplied
-	colShove      = color.RGBA{0xc0, 0x39, 0x2b, 0xff}
-)
-
 // drawScene paints the scene with dc, whose image is v.W x v.H pixels.
 func drawScene(dc *gg.Context, sc *scene, v view) {
-	dc.SetColor(colBackground)
+	dc.SetColor(pal.Paper)
 	dc.Clear()
 	drawGround(dc, sc, v)
 	if sc.HasSup {
 		x0, y0 := v.toPixel(models.Vec2{X: sc.Support[0], Y: groundY(sc, sc.Support[0])})
 		x1, _ := v.toPixel(models.Vec2{X: sc.Support[1], Y: groundY(sc, sc.Support[1])})
-		dc.SetColor(colSupport)
+		dc.SetColor(pal.Support)
 		dc.DrawRectangle(x0, y0-4, math.Max(x1-x0, 1), 8)
 		dc.Fill()
 	}
 	for _, l := range sc.Links {
 		if !l.Root {
-			drawLink(dc, l, v, colLimb)
+			drawLink(dc, l, v, pal.Limb)
 		}
 	}
 	for _, l := range sc.Links {
 		if l.Root {
-			drawLink(dc, l, v, colTorso)
+			drawLink(dc, l, v, pal.Torso)
 		}
 	}
 	for _, p := range sc.Pads {
@@ -130,19 +108,19 @@ func drawScene(dc *gg.Context, sc *scene, v view) {
 	if b := sc.Ballast; b != nil {
 		ax, ay := v.toPixel(b.RailA)
 		bx, by := v.toPixel(b.RailB)
-		dc.SetColor(colOutline)
+		dc.SetColor(pal.Outline)
 		dc.SetLineWidth(2)
 		dc.DrawLine(ax, ay, bx, by)
 		dc.Stroke()
-		drawBox(dc, b.Center, b.Angle, b.Size, b.Size, v, colBallast)
+		drawBox(dc, b.Center, b.Angle, b.Size, b.Size, v, pal.Ballast)
 	}
 	for _, j := range sc.Joints {
 		x, y := v.toPixel(j)
 		r := math.Max(2.5, 0.012*v.Scale)
 		dc.DrawCircle(x, y, r)
-		dc.SetColor(colJoint)
+		dc.SetColor(pal.Joint)
 		dc.FillPreserve()
-		dc.SetColor(colOutline)
+		dc.SetColor(pal.Outline)
 		dc.SetLineWidth(1.5)
 		dc.Stroke()
 	}
@@ -157,9 +135,9 @@ func drawScene(dc *gg.Context, sc *scene, v view) {
 		dc.Translate(x, y)
 		dc.Rotate(-m.Angle)
 		dc.DrawRectangle(-s, -s, 2*s, 2*s)
-		dc.SetColor(colIMU)
+		dc.SetColor(pal.IMU)
 		dc.Fill()
-		dc.SetColor(colJoint)
+		dc.SetColor(pal.Joint)
 		dc.SetLineWidth(1.2)
 		dc.DrawLine(0, s*0.6, 0, -s*0.6) // the sensor's up axis
 		dc.Stroke()
@@ -170,7 +148,7 @@ func drawScene(dc *gg.Context, sc *scene, v view) {
 	}
 	if sc.HasCOP {
 		x, y := v.toPixel(models.Vec2{X: sc.COP, Y: groundY(sc, sc.COP)})
-		dc.SetColor(colCOP)
+		dc.SetColor(pal.COP)
 		dc.MoveTo(x, y-1)
 		dc.LineTo(x-6, y+9)
 		dc.LineTo(x+6, y+9)
@@ -210,9 +188,9 @@ func drawGround(dc *gg.Context, sc *scene, v view) {
 	dc.LineTo(float64(v.W), float64(v.H))
 	dc.LineTo(0, float64(v.H))
 	dc.ClosePath()
-	dc.SetColor(colGround)
+	dc.SetColor(pal.Ground)
 	dc.FillPreserve()
-	dc.SetColor(colGroundLine)
+	dc.SetColor(pal.GroundLine)
 	dc.SetLineWidth(2)
 	dc.Stroke()
 }
@@ -247,7 +225,7 @@ func drawLink(dc *gg.Context, l sceneLink, v view, fill color.Color) {
 	}
 	dc.SetColor(fill)
 	dc.FillPreserve()
-	dc.SetColor(colOutline)
+	dc.SetColor(pal.Outline)
 	dc.SetLineWidth(1.5)
 	dc.Stroke()
 }
@@ -261,7 +239,7 @@ func drawBox(dc *gg.Context, c models.Vec2, angle, w, h float64, v view, fill co
 	dc.Pop()
 	dc.SetColor(fill)
 	dc.FillPreserve()
-	dc.SetColor(colOutline)
+	dc.SetColor(pal.Outline)
 	dc.SetLineWidth(1)
 	dc.Stroke()
 }
@@ -269,7 +247,7 @@ func drawBox(dc *gg.Context, c models.Vec2, angle, w, h float64, v view, fill co
 func drawPad(dc *gg.Context, p scenePad, v view) {
 	// Green deepens with compression, so a loaded pad stands out.
 	f := math.Max(0, math.Min(1, p.Compression))
-	fill := mix(colPad, colPadLoad, f)
+	fill := mix(pal.Pad, pal.PadLoad, f)
 	drawBox(dc, p.Center, p.Angle, p.Width, math.Max(p.High, 2/v.Scale), v, fill)
 }
 
@@ -285,13 +263,13 @@ func mix(a, b color.RGBA, f float64) color.RGBA {
 func drawActuator(dc *gg.Context, a sceneActuator, v view) {
 	ax, ay := v.toPixel(a.From)
 	bx, by := v.toPixel(a.To)
-	mark := colSlack
+	mark := pal.Slack
 	if a.AtEdge {
-		mark = colSlackEdge
+		mark = pal.SlackEdge
 	}
 	if a.Rotary {
 		r := math.Max(6, 0.03*v.Scale)
-		dc.SetColor(colActuator)
+		dc.SetColor(pal.Actuator)
 		dc.SetLineWidth(2)
 		dc.DrawCircle(ax, ay, r)
 		dc.Stroke()
@@ -306,7 +284,7 @@ func drawActuator(dc *gg.Context, a sceneActuator, v view) {
 		}
 		return
 	}
-	dc.SetColor(colActuator)
+	dc.SetColor(pal.Actuator)
 	dc.SetLineWidth(math.Max(2, 0.008*v.Scale))
 	dc.DrawLine(ax, ay, bx, by)
 	dc.Stroke()
@@ -327,7 +305,7 @@ func drawActuator(dc *gg.Context, a sceneActuator, v view) {
 	dc.DrawLine(mx-ux*half, my-uy*half, mx+ux*half, my+uy*half)
 	dc.Stroke()
 	px, py := mx+ux*half*a.Gap, my+uy*half*a.Gap
-	dc.SetColor(colOutline)
+	dc.SetColor(pal.Outline)
 	dc.SetLineWidth(2.5)
 	dc.DrawLine(px-uy*5, py+ux*5, px+uy*5, py-ux*5)
 	dc.Stroke()
@@ -337,7 +315,7 @@ func drawCOM(dc *gg.Context, sc *scene, v view) {
 	x, y := v.toPixel(sc.COM)
 	gy := groundY(sc, sc.COM.X)
 	_, py := v.toPixel(models.Vec2{X: sc.COM.X, Y: gy})
-	dc.SetColor(colCOM)
+	dc.SetColor(pal.COM)
 	dc.SetLineWidth(1)
 	dc.SetDash(4, 3)
 	dc.DrawLine(x, y, x, py)
@@ -348,7 +326,7 @@ func drawCOM(dc *gg.Context, sc *scene, v view) {
 	dc.SetColor(color.White)
 	dc.DrawCircle(x, y, r)
 	dc.Fill()
-	dc.SetColor(colCOM)
+	dc.SetColor(pal.COM)
 	dc.MoveTo(x, y)
 	dc.DrawArc(x, y, r, 0, math.Pi/2)
 	dc.ClosePath()

@@ -74,7 +74,7 @@ func (p *shovePanel) object() fyne.CanvasObject {
 		widget.NewFormItem("Seed", seed.object()),
 	)
 	head := container.NewVBox(form, container.NewHBox(train, add, clearAll),
-		widget.NewLabel("Scheduled shoves (time, link, impulse x and y); they come in every run after a reset:"))
+		wrapped("Scheduled shoves (time, link, impulse x and y); they come in every run after a reset:"))
 	return container.NewBorder(head, nil, nil, nil, container.NewVScroll(p.rows))
 }
 

@@ -44,19 +44,6 @@ func unitOf(units []string, i int) string {
 	return ""
 }
 
-// traceColors are the strip colours, in turn.
-var traceColors = []color.RGBA{
-	{0x2f, 0x6d, 0x9e, 0xff}, {0xc0, 0x39, 0x2b, 0xff}, {0x2e, 0x8b, 0x57, 0xff},
-	{0x8e, 0x44, 0xad, 0xff}, {0xd3, 0x54, 0x00, 0xff}, {0x16, 0xa0, 0x85, 0xff},
-}
-
-var (
-	colPlotBack  = color.RGBA{0xff, 0xff, 0xff, 0xff}
-	colPlotGrid  = color.RGBA{0xe3, 0xe1, 0xdb, 0xff}
-	colPlotText  = color.RGBA{0x33, 0x33, 0x33, 0xff}
-	colReference = color.RGBA{0xb5, 0xb5, 0xb5, 0xff}
-)
-
 // tracesView draws stacked plots of chosen signals over a rolling window,
 // each autoscaled, with the pinned reference run behind, a legend, and a
 // readout of the values under the pointer.
@@ -113,10 +100,10 @@ func (tv *tracesView) draw(img *image.RGBA) {
 	if tv.face == nil {
 		tv.face = newTextFace(12)
 	}
-	fillRect(img, 0, 0, w, h, colPlotBack)
+	fillRect(img, 0, 0, w, h, pal.Paper)
 	n := len(tv.shown)
 	if n == 0 {
-		drawText(img, tv.face, "No signals chosen: use Signals to pick some.", float64(w)/2, float64(h)/2, 0.5, colPlotText)
+		drawText(img, tv.face, "No signals chosen: use Signals to pick some.", float64(w)/2, float64(h)/2, 0.5, pal.Ink)
 		return
 	}
 	const axis = 18.0
@@ -162,13 +149,13 @@ func (tv *tracesView) draw(img *image.RGBA) {
 		pad := (hi - lo) * 0.08
 		lo, hi = lo-pad, hi+pad
 		ty := func(v float64) float64 { return bottom - (v-lo)/(hi-lo)*(bottom-top-16) }
-		hline(img, int(x0), int(x1), int(bottom+2), colPlotGrid, 0)
+		hline(img, int(x0), int(x1), int(bottom+2), pal.Grid, 0)
 		if lo < 0 && hi > 0 {
-			hline(img, int(x0), int(x1), int(ty(0)), colPlotGrid, 3)
+			hline(img, int(x0), int(x1), int(ty(0)), pal.Grid, 3)
 		}
-		col := traceColors[k%len(traceColors)]
+		col := pal.Traces[k%len(pal.Traces)]
 		if tv.hasRef {
-			tv.strokeSeries(img, &tv.ref, k, tx, ty, colReference, w)
+			tv.strokeSeries(img, &tv.ref, k, tx, ty, pal.Reference, w)
 		}
 		tv.strokeSeries(img, &tv.data, k, tx, ty, col, w)
 		// Legend: name, unit, latest value and the range shown, in the
@@ -182,11 +169,11 @@ func (tv *tracesView) draw(img *image.RGBA) {
 			label += fmt.Sprintf("   %.4g", tv.data.Values[k][m-1]*f)
 		}
 		drawText(img, tv.face, label, x0+2, top+12, 0, col)
-		drawText(img, tv.face, fmt.Sprintf("%.3g to %.3g %s", lo*f, hi*f, unit), x1-2, top+12, 1, colPlotText)
+		drawText(img, tv.face, fmt.Sprintf("%.3g to %.3g %s", lo*f, hi*f, unit), x1-2, top+12, 1, pal.Ink)
 		if tv.pointer >= x0 && tv.pointer <= x1 {
 			t := t0 + (tv.pointer-x0)/(x1-x0)*(t1-t0)
 			if v, ok := valueAt(&tv.data, k, t); ok {
-				drawText(img, tv.face, fmt.Sprintf("%.4g %s at %.3f s", v*f, unit, t), tv.pointer+4, bottom-4, 0, colPlotText)
+				drawText(img, tv.face, fmt.Sprintf("%.4g %s at %.3f s", v*f, unit, t), tv.pointer+4, bottom-4, 0, pal.Ink)
 			}
 		}
 	}
@@ -194,11 +181,11 @@ func (tv *tracesView) draw(img *image.RGBA) {
 	step := niceStep(tv.window / 6)
 	for t := math.Ceil(t0/step) * step; t <= t1; t += step {
 		x := tx(t)
-		vline(img, int(x), h-int(axis), h-int(axis)+4, colPlotText, 0)
-		drawText(img, tv.face, fmt.Sprintf("%g s", math.Round(t*1000)/1000), math.Min(math.Max(x, 14), float64(w)-18), float64(h)-3, 0.5, colPlotText)
+		vline(img, int(x), h-int(axis), h-int(axis)+4, pal.Ink, 0)
+		drawText(img, tv.face, fmt.Sprintf("%g s", math.Round(t*1000)/1000), math.Min(math.Max(x, 14), float64(w)-18), float64(h)-3, 0.5, pal.Ink)
 	}
 	if tv.pointer >= x0 && tv.pointer <= x1 {
-		vline(img, int(tv.pointer), 0, h-int(axis), colPlotText, 2)
+		vline(img, int(tv.pointer), 0, h-int(axis), pal.Ink, 2)
 	}
 }
 

@@ -70,13 +70,14 @@ type Window struct {
 	traces  *tracesView
 	scene   scene
 	banner  *fyne.Container
-	bannerT *canvas.Text
+	bannerT *widget.Label
 	status  *widget.Label
 	notice  *widget.Label
 	runBtn  *widget.Button
 	speed   *widget.Select
 	stepBox *fyne.Container // start and stop buttons of the controller's sequences
 
+	tabs      *container.AppTabs
 	gainRows  map[string]*gainRow
 	gainBox   *fyne.Container
 	blockBox  *fyne.Container
@@ -122,6 +123,7 @@ func newWindow(a fyne.App, opts Options, build live.Build[sim.Snapshot]) (*Windo
 	}
 	w := &Window{app: a, run: run, keyShove: 2, window: 10}
 	w.win = a.NewWindow("teeter")
+	w.applyLook()
 	w.build()
 	w.setModel(robot, opts.Model, spec)
 	if opts.Gains != "" {
@@ -220,18 +222,22 @@ func (w *Window) startTicker() {
 func (w *Window) build() {
 	w.view = newRobotView(w.shove)
 	w.traces = newTracesView()
-	w.bannerT = canvas.NewText("", theme.Color(theme.ColorNameForegroundOnError))
-	w.bannerT.TextStyle.Bold = true
-	w.bannerT.TextSize = theme.TextSize() * 1.3
-	bannerBack := canvas.NewRectangle(colSlackEdge)
+	// A wrapped label, so a long fall reason never widens the window.
+	w.bannerT = widget.NewLabelWithStyle("", fyne.TextAlignCenter, fyne.TextStyle{Bold: true})
+	w.bannerT.Wrapping = fyne.TextWrapWord
+	bannerBack := canvas.NewRectangle(pal.SlackEdge)
 	bannerBack.CornerRadius = 6
-	w.banner = container.NewStack(bannerBack, container.NewPadded(container.NewCenter(w.bannerT)))
+	w.banner = container.NewStack(bannerBack, container.NewThemeOverride(container.NewPadded(w.bannerT), onAlarm{}))
 	w.banner.Hide()
 	robotArea := container.NewStack(w.view, container.NewVBox(container.NewPadded(w.banner), layout.NewSpacer()))
 
+	// Status and notice are cut short rather than widen the window; errors
+	// worth reading whole go to a dialog (showError).
 	w.status = widget.NewLabel("")
+	w.status.Truncation = fyne.TextTruncateEllipsis
 	w.notice = widget.NewLabel("")
 	w.notice.Importance = widget.WarningImportance
+	w.notice.Truncation = fyne.TextTruncateEllipsis
 	w.runBtn = widget.NewButtonWithIcon("Run", theme.MediaPlayIcon(), w.toggleRun)
 	stepBtn := widget.NewButtonWithIcon("Step", theme.MediaSkipNextIcon(), func() { w.after(w.run.StepOnce()) })
 	resetBtn := widget.NewButtonWithIcon("Reset", theme.MediaReplayIcon(), w.reset)
@@ -256,8 +262,8 @@ func (w *Window) build() {
 	zoomOut := widget.NewButtonWithIcon("", theme.ZoomOutIcon(), func() { w.view.zoomBy(0.8) })
 
 	w.stepBox = container.NewHBox()
-	bar := container.NewHBox(w.runBtn, stepBtn, resetBtn, widget.NewLabel("Speed"), w.speed,
-		widget.NewSeparator(), zoomIn, zoomOut, fit, widget.NewSeparator(), w.status)
+	bar := container.NewBorder(nil, nil, container.NewHBox(w.runBtn, stepBtn, resetBtn, widget.NewLabel("Speed"), w.speed,
+		widget.NewSeparator(), zoomIn, zoomOut, fit, widget.NewSeparator()), nil, w.status)
 	plotBar := container.NewHBox(signals, windowSel, freeze, pin, unpin)
 	plots := container.NewBorder(plotBar, nil, nil, nil, w.traces)
 	split := container.NewVSplit(robotArea, plots)
@@ -275,7 +281,7 @@ func (w *Window) build() {
 	addBlock := widget.NewButtonWithIcon("Add block…", theme.ContentAddIcon(), w.addBlockDialog)
 	graphTab := container.NewBorder(container.NewHBox(addBlock, widget.NewLabel("Select a block to tune, rewire or remove it.")), nil, nil, nil,
 		container.NewVSplit(graphScroll, container.NewVScroll(w.blockBox)))
-	tabs := container.NewAppTabs(
+	w.tabs = container.NewAppTabs(
 		container.NewTabItem("Gains", container.NewVScroll(w.gainBox)),
 		container.NewTabItem("Robot", container.NewVScroll(w.robotBox)),
 		container.NewTabItem("Shoves", w.shoves.object()),
@@ -283,7 +289,7 @@ func (w *Window) build() {
 		container.NewTabItem("Studies", w.studies),
 		container.NewTabItem("Help", container.NewVScroll(helpContent())),
 	)
-	main := container.NewHSplit(left, tabs)
+	main := container.NewHSplit(left, w.tabs)
 	main.Offset = 0.62
 	w.win.SetContent(main)
 	w.win.SetMainMenu(w.menu())

@@ -336,7 +336,7 @@ func TestRobotViewDrawsTheRobotWhereTheModelSays(t *testing.T) {
 		for dy := -3; dy <= 3; dy++ {
 			for dx := -3; dx <= 3; dx++ {
 				total++
-				if near(img.RGBAAt(int(px)+dx, int(py)+dy), colTorso, 8) {
+				if near(img.RGBAAt(int(px)+dx, int(py)+dy), pal.Torso, 8) {
 					hits++
 				}
 			}
@@ -346,7 +346,7 @@ func TestRobotViewDrawsTheRobotWhereTheModelSays(t *testing.T) {
 		}
 		// And the ground line is below it.
 		gx, gy := w.view.v.toPixel(models.Vec2{X: c.X, Y: -0.01})
-		if !near(img.RGBAAt(int(gx), int(gy)+3), colGround, 8) {
+		if !near(img.RGBAAt(int(gx), int(gy)+3), pal.Ground, 8) {
 			t.Errorf("%s: no ground under the robot at (%.0f, %.0f)", model, gx, gy)
 		}
 	}
@@ -554,7 +554,7 @@ func TestPlotsFreezeAndDrawThePinnedRunBehind(t *testing.T) {
 	grey := 0
 	for y := 0; y < 400; y++ {
 		for x := 0; x < 600; x++ {
-			if img.RGBAAt(x, y) == colReference {
+			if img.RGBAAt(x, y) == pal.Reference {
 				grey++
 			}
 		}
