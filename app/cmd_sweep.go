@@ -15,6 +15,7 @@ import (
 
 	"teeter/models"
 	"teeter/sim"
+	"teeter/sim/rig"
 	"teeter/sim/study/metric"
 	"teeter/sim/study/plot"
 	"teeter/sim/study/sweep"
@@ -49,49 +50,22 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 		return nil
 	}
 	spec := sweep.Spec{Metrics: strings.Split(*metricNames, ","), Seed: *seed, Workers: *workers}
-	if len(params) == 0 {
-		return usageError{errors.New("give at least one --param PATH=FROM:TO:STEPS")}
-	}
-	for _, p := range params {
-		a, err := sweep.ParseAxis(p)
-		if err != nil {
-			return usageError{err}
-		}
-		spec.Axes = append(spec.Axes, a)
-	}
-	var err error
-	if spec.Duration, err = parseDuration(*durText); err != nil {
+	if err := fillSweepSpec(&spec, params, shoves, *durText, *shardText); err != nil {
 		return err
 	}
-	if spec.Shoves, err = parseShoves(shoves); err != nil {
+	var res *sweep.Result
+	var runErr error
+	if err := runStudy(rf, stderr, "sweep", func(ctx context.Context, r *rig.Rig, bar *progress) {
+		spec.Progress = bar.update
+		res, runErr = sweep.Run(ctx, r, spec)
+	}); err != nil {
 		return err
 	}
-	if *shardText != "" {
-		if spec.Shard, err = sweep.ParseShard(*shardText); err != nil {
-			return usageError{err}
-		}
-	}
-	r, err := rf.load()
-	if err != nil {
-		return err
-	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
-	defer stop()
-	bar := newProgress(stderr, "sweep")
-	spec.Progress = bar.update
-	res, runErr := sweep.Run(ctx, r, spec)
-	bar.finish()
 	if res == nil {
 		return runErr
 	}
-	if *csvFile != "" {
-		if err := models.WriteFileAtomic(*csvFile, res.WriteCSV); err != nil {
-			return err
-		}
-	} else {
-		if err := res.WriteCSV(stdout); err != nil {
-			return err
-		}
+	if err := writeSweep(stdout, res, *csvFile); err != nil {
+		return err
 	}
 	if *plotFile != "" && runErr == nil {
 		if err := plot.Sweep(res, spec.Metrics[0], *plotFile); err != nil {
@@ -113,6 +87,42 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
+// fillSweepSpec reads the grid, the duration, the shoves and the shard
+// from their flags into spec.
+func fillSweepSpec(spec *sweep.Spec, params, shoves []string, durText, shardText string) error {
+	if len(params) == 0 {
+		return usageError{errors.New("give at least one --param PATH=FROM:TO:STEPS")}
+	}
+	for _, p := range params {
+		a, err := sweep.ParseAxis(p)
+		if err != nil {
+			return usageError{err}
+		}
+		spec.Axes = append(spec.Axes, a)
+	}
+	var err error
+	if spec.Duration, err = parseDuration(durText); err != nil {
+		return err
+	}
+	if spec.Shoves, err = parseShoves(shoves); err != nil {
+		return err
+	}
+	if shardText != "" {
+		if spec.Shard, err = sweep.ParseShard(shardText); err != nil {
+			return usageError{err}
+		}
+	}
+	return nil
+}
+
+// writeSweep writes the results as CSV to csvFile, or to stdout without one.
+func writeSweep(stdout io.Writer, res *sweep.Result, csvFile string) error {
+	if csvFile != "" {
+		return models.WriteFileAtomic(csvFile, res.WriteCSV)
+	}
+	return res.WriteCSV(stdout)
+}
+
 func parseDuration(text string) (float64, error) {
 	d, _, err := models.ParseQuantity(text, models.Duration)
 	if err != nil || d <= 0 {
@@ -131,6 +141,21 @@ func parseShoves(specs []string) ([]sim.Shove, error) {
 		out = append(out, sh)
 	}
 	return out, nil
+}
+
+// runStudy loads the rig the flags give and runs a study on it with a
+// context that an interrupt cancels and a progress bar on stderr.
+func runStudy(rf rigFlags, stderr io.Writer, what string, run func(ctx context.Context, r *rig.Rig, bar *progress)) error {
+	r, err := rf.load()
+	if err != nil {
+		return err
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	bar := newProgress(stderr, what)
+	run(ctx, r, bar)
+	bar.finish()
+	return nil
 }
 
 // progress draws a bar on a terminal for a study that has run for more

@@ -6,11 +6,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
-	"os/signal"
 	"strings"
 
 	"teeter/control"
+	"teeter/sim/rig"
 	"teeter/sim/study/tune"
 )
 
@@ -29,7 +28,7 @@ func cmdTune(args []string, stdout, stderr io.Writer) error {
 	robust := fs.Int("robust", 0, "also tune over this many random robot variants (backlash, ballast, battery)")
 	iterations := fs.Int("iterations", 40, "Nelder-Mead iterations")
 	durText := fs.String("duration", "", "simulated time per run (default: 3 s after the last shove)")
-	effort := fs.Float64("effort-weight", 0.01, "weight of control effort against tilt ITAE in the cost")
+	effort := fs.Float64("effort-weight", 0.01, "weight of control effort against tilt ITAE in the cost, rad*s")
 	out := fs.String("out", "", "write the tuned gain set here (.yaml or .json)")
 	workers := fs.Int("workers", 0, "runs in parallel (default: every core)")
 	seed := fs.Uint64("seed", 1, "seed for noise and for the robot variants")
@@ -57,20 +56,16 @@ func cmdTune(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 	}
-	r, err := rf.load()
-	if err != nil {
-		return err
+	var res *tune.Result
+	if serr := runStudy(rf, stderr, "tune", func(ctx context.Context, r *rig.Rig, bar *progress) {
+		spec.Progress = func(p tune.Progress) {
+			bar.describe(fmt.Sprintf("tune: best cost %.4g %s", p.Best, tune.CostUnit))
+			bar.update(p.Iteration, p.Iterations)
+		}
+		res, err = tune.Run(ctx, r, spec)
+	}); serr != nil {
+		return serr
 	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
-	defer stop()
-	bar := newProgress(stderr, "tune")
-	total := (*iterations + 1) * (len(spec.Paths) + 2)
-	spec.Progress = func(p tune.Progress) {
-		bar.describe(fmt.Sprintf("tune: best cost %.4g", p.Best))
-		bar.update(min(p.Evaluation, total), total)
-	}
-	res, err := tune.Run(ctx, r, spec)
-	bar.finish()
 	if res == nil {
 		return err
 	}
@@ -104,8 +99,9 @@ func printTune(stdout io.Writer, res *tune.Result, out string, asJSON bool) erro
 	if asJSON {
 		return json.NewEncoder(stdout).Encode(res)
 	}
-	fmt.Fprintf(stdout, "tuned %d gains over %d cases in %d evaluations (%s): cost %.4g -> %.4g\n",
-		len(res.Paths), res.Cases, res.Evaluations, res.Status, res.StartCost, res.BestCost)
+	fmt.Fprintf(stdout, "tuned %d gains over %d cases in %d evaluations (%s): cost %.4g -> %.4g %s\n",
+		len(res.Paths), res.Cases, res.Evaluations, res.Status, res.StartCost, res.BestCost, tune.CostUnit)
+	fmt.Fprintf(stdout, "cost: %s\n", res.CostMeaning)
 	for i, p := range res.Paths {
 		fmt.Fprintf(stdout, "  %-28s %10.4g -> %10.4g\n", p, res.Start[i], res.Best[i])
 	}

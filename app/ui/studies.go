@@ -494,12 +494,10 @@ func (p *studiesPanel) startTune() {
 		return
 	}
 	spec := tune.Spec{Paths: splitList(p.tPaths.Text), Shoves: shoves, Iterations: int(vals[0]), Workers: workers()}
-	// Evaluations: the first simplex, then about two per iteration.
-	estimate := float64(len(spec.Paths) + 1 + 2*spec.Iterations)
 	r := p.rig()
 	j.run(func(ctx context.Context, progress func(float64)) func() {
 		spec.Progress = func(tp tune.Progress) {
-			progress(math.Min(0.99, float64(tp.Evaluation)/estimate))
+			progress(tp.Fraction())
 		}
 		res, err := tune.Run(ctx, r, spec)
 		if err != nil && (res == nil || !errors.Is(err, context.Canceled)) {
@@ -517,7 +515,8 @@ func (p *studiesPanel) showTune(res *tune.Result, err error, file string, werr e
 	if err != nil {
 		state = "Cancelled: the best gains so far are kept"
 	}
-	j.status.SetText(fmt.Sprintf("%s: cost %.4g from %.4g, %d evaluations of %d runs each", state, res.BestCost, res.StartCost, res.Evaluations, res.Cases) + saved(file, werr))
+	j.status.SetText(fmt.Sprintf("%s: cost %.4g from %.4g %s, %d evaluations of %d runs each\nCost: %s", state, res.BestCost, res.StartCost, tune.CostUnit,
+		res.Evaluations, res.Cases, res.CostMeaning) + saved(file, werr))
 	grid := container.NewGridWithColumns(3, bold("Gain"), bold("Was"), bold("Tuned"))
 	units := map[string]string{}
 	for _, q := range p.w.params {
