@@ -12,7 +12,7 @@ import (
 )
 
 // torsoColour and groundColour are fills of the robot view
-// (app/ui/scene.go). The torso's colour is also the first trace's, but a
+// (app/ui/look.go). The torso's colour is also the first trace's, but a
 // trace is a line: only the robot view paints a solid block of it, with
 // the ground's fill below.
 var (
