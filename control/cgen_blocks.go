@@ -268,6 +268,11 @@ func (p *pidBlock) cEmit(w *cWriter) {
 	lines = append(lines,
 		fmt.Sprintf("    %s = (tf * %s - kd * (y - %s)) / (tf + H);", d, d, st("last_y")),
 		"    prop = kp * (b * r - y);",
+		fmt.Sprintf("    if (%s < 0.5) { /* off: outputs 0; with ki, the integral tracks for a bumpless start */", w.par(&p.on)),
+		fmt.Sprintf("        if (ki > 0) %s = -(prop + %s);", i, d),
+		fmt.Sprintf("        %s = 0; %s = 0; %s = 0; %s = 0;", w.out(&p.ports, 0), w.out(&p.ports, 1), w.out(&p.ports, 2), w.out(&p.ports, 3)),
+		fmt.Sprintf("        %s = y;", st("last_y")),
+		"    } else {",
 		fmt.Sprintf("    v = prop + %s + %s;", i, d),
 		"    u = v;")
 	var lo, hi string
@@ -307,7 +312,7 @@ func (p *pidBlock) cEmit(w *cWriter) {
 			fmt.Sprintf("        %s += ki * H * e + H / tt * (u - v);", i),
 			"    }")
 	}
-	lines = append(lines, fmt.Sprintf("    %s = y;", st("last_y")), "}")
+	lines = append(lines, fmt.Sprintf("    %s = y;", st("last_y")), "    }", "}")
 	w.onTick(lines...)
 }
 

@@ -280,6 +280,13 @@ func syntheticScript(g *Graph, opt COptions, ticks int, seed uint64) cScript {
 			}
 			s.add("p %d 1", len(params))
 			s.add("p -1 1")
+		case ticks * 3 / 10, ticks * 11 / 20:
+			// Every loop off, then on again.
+			for i, p := range params {
+				if _, pid := g.params[i].owner.(*pidBlock); pid && p.Name == "on" {
+					s.add("p %d %d", i, map[bool]int{true: 0, false: 1}[k == ticks*3/10])
+				}
+			}
 		case ticks * 7 / 10:
 			for i, p := range params {
 				if _, pid := g.params[i].owner.(*pidBlock); pid && (p.Name == "kp" || p.Name == "b") {

@@ -84,7 +84,7 @@ gains:
 		t.Fatal(err)
 	}
 	err = g.Apply(gs)
-	want := `tuned.yaml:6:3: gains.body_roll.kq: no tunable parameter "body_roll.kq" (block body_roll has kp, ki, kd, b, tf, min, max, tt)
+	want := `tuned.yaml:6:3: gains.body_roll.kq: no tunable parameter "body_roll.kq" (block body_roll has kp, ki, kd, b, tf, min, max, tt, on)
 tuned.yaml:7:3: gains.bodyroll.ki: no tunable parameter "bodyroll.ki": there is no block "bodyroll" with tunable parameters
 tuned.yaml:8:3: gains.body_roll.b: body_roll.b: 2 is outside 0 .. 1`
 	if err == nil || err.Error() != want {

@@ -23,6 +23,7 @@ func parsePID(r *reader) {
 		r.text("anti_windup", "conditional", false, "conditional", "back_calculation", "none")
 		r.number("tt", num{m: mDuration, min: 0, max: inf})
 	}
+	r.number("on", num{m: mNumber, def: 1, min: 0, max: 1})
 	r.inputs("setpoint", "measurement")
 	r.outputs("out", "p", "i", "d")
 }
@@ -52,6 +53,7 @@ type pidBlock struct {
 	lo, hi        float64
 	windup        int
 	tt            float64
+	on            float64 // the loop runs at 0.5 and above; off, every output is 0
 
 	integral, deriv, lastY float64
 	started                bool
@@ -86,6 +88,7 @@ func buildPID(b *BlockSpec, c *buildContext) block {
 			p.windup = windupConditional
 		}
 	}
+	c.bind(b, "on", &p.on)
 	return p
 }
 
@@ -152,6 +155,18 @@ func (p *pidBlock) tick(g *Graph) {
 	tf := p.filterTime()
 	p.deriv = (tf*p.deriv - p.kd*(y-p.lastY)) / (tf + h)
 	prop := p.kp * (p.b*r - y)
+	if p.on < 0.5 {
+		// Off: every output 0, the derivative following the measurement
+		// and, with integral action, the integral tracking so that the
+		// output starts from 0 when the loop is switched on (bumpless
+		// transfer, Astrom and Hagglund 2006, from memory).
+		if p.ki > 0 {
+			p.integral = -(prop + p.deriv)
+		}
+		g.vals[p.out], g.vals[p.out+1], g.vals[p.out+2], g.vals[p.out+3] = 0, 0, 0, 0
+		p.lastY = y
+		return
+	}
 	v := prop + p.integral + p.deriv
 	u := v
 	if p.limited {
