@@ -255,3 +255,26 @@ func TestBuiltinRobotsComeWithTheirControllers(t *testing.T) {
 		t.Fatalf("running body_loop.kp %g (%v)", got, err)
 	}
 }
+
+func TestLoopSwitchesInTheGainsTab(t *testing.T) {
+	// Each PID has an on/off switch in the Gains tab (control/SCHEMA.md:
+	// pid.on); it acts on the running graph and undoes like a gain.
+	w, _ := openTest(t, "builtin:sagittal")
+	row := w.gainRows["ballast_loop.on"]
+	if row == nil || row.onOff == nil {
+		t.Fatal("no switch for the ballast loop")
+	}
+	for _, p := range w.params {
+		if p.Name == "on" && w.gainRows[p.Path].onOff == nil {
+			t.Errorf("%s shows as a slider, not a switch", p.Path)
+		}
+	}
+	test.Tap(row.onOff)
+	if got, _ := w.run.Gain("ballast_loop.on"); got != 0 || row.onOff.Checked {
+		t.Fatalf("after unchecking the ballast loop runs with on = %g", got)
+	}
+	w.Undo()
+	if got, _ := w.run.Gain("ballast_loop.on"); got != 1 || !row.onOff.Checked {
+		t.Fatalf("after undo on = %g, checked %v", got, row.onOff.Checked)
+	}
+}

@@ -22,7 +22,13 @@ type gainRow struct {
 	slider   *widget.Slider
 	field    *numberField
 	updating bool // set while the window moves the slider itself
+	// onOff is the loop switch of a PID (its parameter "on"), shown as a
+	// check box in place of a slider.
+	onOff *widget.Check
 }
+
+// isLoopSwitch tells a PID's on/off parameter (control/SCHEMA.md).
+func isLoopSwitch(p control.ParamInfo, kind string) bool { return kind == "pid" && p.Name == "on" }
 
 // gainTier orders the gains panel: the loops a builder tunes first (PIDs,
 // splits, gains), then the other blocks, then sequences.
@@ -75,12 +81,19 @@ func (w *Window) buildGainRows() {
 	blocks, kind := w.gainBlocks()
 	for _, block := range blocks {
 		rows := container.NewVBox()
+		var onOff *widget.Check
 		for _, p := range w.params {
-			if p.Block == block {
-				row := w.newGainRow(p)
-				w.gainRows[p.Path] = row
-				rows.Add(row.object(w))
+			if p.Block != block {
+				continue
 			}
+			if isLoopSwitch(p, kind[block]) {
+				row := w.newSwitchRow(p)
+				w.gainRows[p.Path], onOff = row, row.onOff
+				continue
+			}
+			row := w.newGainRow(p)
+			w.gainRows[p.Path] = row
+			rows.Add(row.object(w))
 		}
 		if gainTier(kind[block]) == 2 {
 			// Sequences have many timings and set points: folded away.
@@ -88,7 +101,11 @@ func (w *Window) buildGainRows() {
 			continue
 		}
 		w.gainBox.Add(widget.NewSeparator())
-		w.gainBox.Add(widget.NewLabelWithStyle(block, fyne.TextAlignLeading, fyne.TextStyle{Bold: true}))
+		title := fyne.CanvasObject(widget.NewLabelWithStyle(block, fyne.TextAlignLeading, fyne.TextStyle{Bold: true}))
+		if onOff != nil {
+			title = container.NewBorder(nil, nil, title, onOff)
+		}
+		w.gainBox.Add(title)
 		w.gainBox.Add(rows)
 	}
 	w.gainBox.Refresh()
@@ -117,6 +134,24 @@ func (w *Window) newGainRow(p control.ParamInfo) *gainRow {
 	return row
 }
 
+// newSwitchRow is a loop's on/off switch; it acts at the next tick and is
+// undone like any gain.
+func (w *Window) newSwitchRow(p control.ParamInfo) *gainRow {
+	row := &gainRow{info: p}
+	row.onOff = widget.NewCheck("loop on", func(on bool) {
+		if row.updating {
+			return
+		}
+		v := 0.0
+		if on {
+			v = 1
+		}
+		w.setGain(p.Path, v, false)
+	})
+	row.show(p.Value)
+	return row
+}
+
 func (row *gainRow) object(w *Window) fyne.CanvasObject {
 	p := row.info
 	back := widget.NewButtonWithIcon("", theme.HistoryIcon(), func() { w.setGain(p.Path, p.Value, false) })
@@ -136,6 +171,12 @@ func (row *gainRow) object(w *Window) fyne.CanvasObject {
 
 // show moves the row's controls to v without sending anything.
 func (row *gainRow) show(v float64) {
+	if row.onOff != nil {
+		row.updating = true
+		row.onOff.SetChecked(v >= 0.5)
+		row.updating = false
+		return
+	}
 	row.updating = true
 	row.slider.SetValue(math.Max(row.slider.Min, math.Min(row.slider.Max, v)))
 	row.updating = false
