@@ -21,6 +21,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) error {
 	out := fs.String("csv", "", "write the merged CSV here (default: standard output)")
 	plotFile := fs.String("plot", "", "plot a metric to this .png or .svg file")
 	metric := fs.String("metric", "", "metric to plot (default: the first)")
+	threshold := fs.String("threshold", "", "on the plot, mark where the metric crosses this level, e.g. 0.5deg (a contour on a heat map)")
 	partial := fs.Bool("partial", false, "merge even if points are missing")
 	fs.Usage = func() {
 		fmt.Fprintln(stderr, "usage: teeter merge [options] SHARD.csv...")
@@ -63,7 +64,11 @@ func cmdMerge(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *plotFile != "" {
-		return plot.Sweep(merged, *metric, *plotFile)
+		opt, err := plotOptions(merged, *metric, *threshold)
+		if err != nil {
+			return err
+		}
+		return plot.Sweep(merged, opt, *plotFile)
 	}
 	return nil
 }

@@ -37,9 +37,11 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 	durText := fs.String("duration", "5s", "simulated time per point")
 	csvFile := fs.String("csv", "", "write the results to this CSV file")
 	plotFile := fs.String("plot", "", "plot the first metric to this .png or .svg file")
+	threshold := fs.String("threshold", "", "on the plot, mark where the metric crosses this level, e.g. 0.5deg (a contour on a heat map)")
 	workers := fs.Int("workers", 0, "runs in parallel (default: every core)")
 	shardText := fs.String("shard", "", "I/N: run only every N-th point from point I, for a job array")
-	seed := fs.Uint64("seed", 1, "seed; point i runs with seed+i")
+	seeds := fs.Int("seeds", sweep.DefaultSeeds, "noise seeds each point runs with; the CSV gives the mean and the worst")
+	seed := fs.Uint64("seed", 1, "first seed; point i's k-th run has seed+i*seeds+k")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
@@ -49,7 +51,10 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 		}
 		return nil
 	}
-	spec := sweep.Spec{Metrics: strings.Split(*metricNames, ","), Seed: *seed, Workers: *workers}
+	if *seeds < 1 {
+		return usageError{fmt.Errorf("--seeds %d: want at least 1", *seeds)}
+	}
+	spec := sweep.Spec{Metrics: strings.Split(*metricNames, ","), Seeds: *seeds, Seed: *seed, Workers: *workers}
 	if err := fillSweepSpec(&spec, params, shoves, *durText, *shardText); err != nil {
 		return err
 	}
@@ -68,7 +73,11 @@ func cmdSweep(args []string, stdout, stderr io.Writer) error {
 		return err
 	}
 	if *plotFile != "" && runErr == nil {
-		if err := plot.Sweep(res, spec.Metrics[0], *plotFile); err != nil {
+		opt, err := plotOptions(res, spec.Metrics[0], *threshold)
+		if err != nil {
+			return err
+		}
+		if err := plot.Sweep(res, opt, *plotFile); err != nil {
 			return err
 		}
 	}
@@ -113,6 +122,15 @@ func fillSweepSpec(spec *sweep.Spec, params, shoves []string, durText, shardText
 		}
 	}
 	return nil
+}
+
+// plotOptions are plot.OptionsFor, its errors a misuse of the flags.
+func plotOptions(res *sweep.Result, metricName, threshold string) (plot.Options, error) {
+	opt, err := plot.OptionsFor(res, metricName, threshold)
+	if err != nil {
+		return opt, usageError{fmt.Errorf("--threshold: %v", err)}
+	}
+	return opt, nil
 }
 
 // writeSweep writes the results as CSV to csvFile, or to stdout without one.

@@ -116,7 +116,8 @@ type studiesPanel struct {
 	sweep                           *studyJob
 	sAxis1, sAxis2, sShove          *widget.Entry
 	sMetric                         *widget.Select
-	sDuration                       *numberField
+	sDuration, sSeeds               *numberField
+	sThreshold                      *widget.Entry
 	tune                            *studyJob
 	tPaths, tShove                  *widget.Entry
 	tIterations                     *numberField
@@ -149,6 +150,10 @@ func newStudiesPanel(w *Window) *studiesPanel {
 	p.sMetric.SetSelected("peak_tilt")
 	p.sDuration = newNumberField("s", 0.01, 600, nil)
 	p.sDuration.show(4)
+	p.sSeeds = newNumberField("", 1, 64, nil)
+	p.sSeeds.show(sweep.DefaultSeeds)
+	p.sThreshold = widget.NewEntry()
+	p.sThreshold.SetPlaceHolder("optional: a level to draw, such as 0.5 deg")
 	p.tPaths, p.tShove = widget.NewEntry(), widget.NewEntry()
 	p.tIterations = newNumberField("", 1, 1000, nil)
 	p.tIterations.show(10)
@@ -204,6 +209,8 @@ func (p *studiesPanel) object() fyne.CanvasObject {
 		widget.NewFormItem("Second parameter", p.sAxis2),
 		widget.NewFormItem("Measure", p.sMetric),
 		widget.NewFormItem("Each run", p.sDuration.object()),
+		widget.NewFormItem("Noise seeds", p.sSeeds.object()),
+		widget.NewFormItem("Mark the level", p.sThreshold),
 		widget.NewFormItem("Shove", p.sShove),
 	)
 	tForm := widget.NewForm(
@@ -299,6 +306,17 @@ func (p *studiesPanel) startMargin() {
 	})
 }
 
+// plotView shows a study's plot, or why there is none.
+func plotView(img image.Image, plotErr error) fyne.CanvasObject {
+	if plotErr != nil {
+		return widget.NewLabel("No plot: " + plotErr.Error())
+	}
+	im := canvas.NewImageFromImage(img)
+	im.FillMode = canvas.ImageFillContain
+	im.SetMinSize(fyne.NewSize(480, 360))
+	return im
+}
+
 func (p *studiesPanel) showMargin(res []margin.Result, err error, spec margin.Spec, img image.Image, plotErr error) {
 	j := p.margin
 	p.lastMargin = res
@@ -327,14 +345,7 @@ func (p *studiesPanel) showMargin(res []margin.Result, err error, spec margin.Sp
 	}
 	j.result.Objects = []fyne.CanvasObject{grid,
 		widget.NewLabel(fmt.Sprintf("Over %d noise seeds from seed %d, each within %g N*s.", spec.Seeds, spec.Seed, spec.Tol))}
-	if plotErr != nil {
-		j.result.Add(widget.NewLabel("No plot: " + plotErr.Error()))
-	} else {
-		im := canvas.NewImageFromImage(img)
-		im.FillMode = canvas.ImageFillContain
-		im.SetMinSize(fyne.NewSize(480, 360))
-		j.result.Add(im)
-	}
+	j.result.Add(plotView(img, plotErr))
 	state := "Done"
 	if err != nil {
 		state = "Cancelled: the brackets found so far"
@@ -386,7 +397,7 @@ func parseShoves(text string) ([]sim.Shove, error) {
 
 func (p *studiesPanel) startSweep() {
 	j := p.sweep
-	vals, ok := read(p.sDuration)
+	vals, ok := read(p.sDuration, p.sSeeds)
 	if !ok {
 		return
 	}
@@ -412,7 +423,8 @@ func (p *studiesPanel) startSweep() {
 	if metric != "fell" {
 		metrics = append(metrics, "fell")
 	}
-	spec := sweep.Spec{Axes: axes, Metrics: metrics, Duration: vals[0], Shoves: shoves, Workers: workers()}
+	spec := sweep.Spec{Axes: axes, Metrics: metrics, Duration: vals[0], Seeds: int(vals[1]), Shoves: shoves, Workers: workers()}
+	threshold := p.sThreshold.Text
 	r := p.rig()
 	j.run(func(ctx context.Context, progress func(float64)) func() {
 		spec.Progress = fraction(progress)
@@ -420,14 +432,18 @@ func (p *studiesPanel) startSweep() {
 		if err != nil && !errors.Is(err, context.Canceled) {
 			return func() { j.status.SetText("The sweep failed: " + err.Error()) }
 		}
+		opt, optErr := plot.OptionsFor(res, metric, threshold)
+		if optErr != nil {
+			return func() { j.status.SetText(optErr.Error()) }
+		}
 		// Save and draw off the UI thread; the plot is read back to show.
 		csvFile, csvErr := autoSave("sweep", ".csv", func(path string) error { return writeSweepCSV(path, res) })
 		var img image.Image
-		pngFile, plotErr := autoSave("sweep", ".png", func(path string) error { return plot.Sweep(res, metric, path) })
+		pngFile, plotErr := autoSave("sweep", ".png", func(path string) error { return plot.Sweep(res, opt, path) })
 		if plotErr == nil {
 			img, plotErr = readPNG(pngFile)
 		}
-		return func() { p.showSweep(res, err, metric, img, plotErr, pngFile, csvFile, csvErr) }
+		return func() { p.showSweep(res, err, opt, img, plotErr, pngFile, csvFile, csvErr) }
 	})
 }
 
@@ -443,10 +459,10 @@ func readPNG(path string) (image.Image, error) {
 	return png.Decode(bytes.NewReader(data))
 }
 
-func (p *studiesPanel) showSweep(res *sweep.Result, err error, metric string, img image.Image, plotErr error, pngFile, csvFile string, csvErr error) {
+func (p *studiesPanel) showSweep(res *sweep.Result, err error, opt plot.Options, img image.Image, plotErr error, pngFile, csvFile string, csvErr error) {
 	j := p.sweep
-	p.lastSweep, p.lastSweepMetric, p.lastSweepImage = res, metric, pngFile
-	state := fmt.Sprintf("Done: %d points", len(res.Points))
+	p.lastSweep, p.lastSweepMetric, p.lastSweepImage = res, opt.Metric, pngFile
+	state := fmt.Sprintf("Done: %d points, %d seeds each", len(res.Points), res.Seeds)
 	if err != nil {
 		state = fmt.Sprintf("Cancelled: %d of %d points done, kept", len(res.Points), res.Total)
 	}
@@ -460,20 +476,13 @@ func (p *studiesPanel) showSweep(res *sweep.Result, err error, metric string, im
 		state += fmt.Sprintf(", %d failed (left out of the plot)", failed)
 	}
 	j.status.SetText(state + saved(csvFile, csvErr))
-	if plotErr != nil {
-		j.result.Add(widget.NewLabel("No plot: " + plotErr.Error()))
-	} else {
-		im := canvas.NewImageFromImage(img)
-		im.FillMode = canvas.ImageFillContain
-		im.SetMinSize(fyne.NewSize(480, 360))
-		j.result.Add(im)
-	}
+	j.result.Add(plotView(img, plotErr))
 	j.result.Add(container.NewHBox(
 		widget.NewButtonWithIcon("Save points…", theme.DocumentSaveIcon(), func() {
 			p.w.saveFile("sweep.csv", func(path string) error { return writeSweepCSV(path, res) })
 		}),
 		widget.NewButtonWithIcon("Save plot…", theme.DocumentSaveIcon(), func() {
-			p.w.saveFile("sweep.png", func(path string) error { return plot.Sweep(res, metric, path) })
+			p.w.saveFile("sweep.png", func(path string) error { return plot.Sweep(res, opt, path) })
 		}),
 	))
 	j.result.Refresh()

@@ -145,11 +145,15 @@ func TestSweepStudyShowsItsPlotAndCancelKeepsPoints(t *testing.T) {
 	p.sMetric.SetSelected("peak_tilt")
 	p.sDuration.Entry.SetText("0.2 s")
 	p.sShove.SetText("")
+	p.sSeeds.Entry.SetText("3")
 	test.Tap(p.sweep.startBtn)
 	pump(p.sweep.done)
 	res := p.lastSweep
-	if res == nil || len(res.Points) != 2 || res.Total != 2 {
+	if res == nil || len(res.Points) != 2 || res.Total != 2 || res.Seeds != 3 {
 		t.Fatalf("sweep result %+v (%s)", res, p.sweep.status.Text)
+	}
+	if !strings.Contains(p.sweep.status.Text, "3 seeds each") {
+		t.Errorf("the seed count is not shown: %q", p.sweep.status.Text)
 	}
 	// The two grid values, 0 and 1 mm, in SI.
 	if res.Points[0].Values[0] != 0 || res.Points[1].Values[0] != 0.001 {

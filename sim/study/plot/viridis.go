@@ -57,12 +57,12 @@ func (m *viridisMap) At(v float64) (color.Color, error) {
 	}
 	return viridis((v - m.lo) / (m.hi - m.lo)), nil
 }
-func (m *viridisMap) SetMax(v float64)                 { m.hi = v }
-func (m *viridisMap) SetMin(v float64)                 { m.lo = v }
-func (m *viridisMap) Max() float64                     { return m.hi }
-func (m *viridisMap) Min() float64                     { return m.lo }
-func (m *viridisMap) SetAlpha(float64)                 {}
-func (m *viridisMap) Alpha() float64                   { return 1 }
+func (m *viridisMap) SetMax(v float64)                   { m.hi = v }
+func (m *viridisMap) SetMin(v float64)                   { m.lo = v }
+func (m *viridisMap) Max() float64                       { return m.hi }
+func (m *viridisMap) Min() float64                       { return m.lo }
+func (m *viridisMap) SetAlpha(float64)                   {}
+func (m *viridisMap) Alpha() float64                     { return 1 }
 func (m *viridisMap) Palette(colors int) palette.Palette { return viridisPalette(colors) }
 
 // viridisPalette is n colours evenly along viridis.

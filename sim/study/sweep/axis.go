@@ -15,6 +15,9 @@ type Axis struct {
 	Path     string
 	From, To float64
 	Steps    int
+	// Unit is the SI unit of the values as given ("m" for 0:2mm), "" when
+	// they came without units.
+	Unit string
 }
 
 // Value is the axis's i-th value.
@@ -35,11 +38,21 @@ func ParseAxis(text string) (Axis, error) {
 	}
 	a := Axis{Path: strings.TrimSpace(path)}
 	var err error
-	if a.From, _, err = models.ParseQuantity(strings.TrimSpace(parts[0])); err != nil {
+	var from, to models.Kind
+	if a.From, from, err = models.ParseQuantity(strings.TrimSpace(parts[0])); err != nil {
 		return Axis{}, fmt.Errorf("parameter %q: from: %v", text, err)
 	}
-	if a.To, _, err = models.ParseQuantity(strings.TrimSpace(parts[1])); err != nil {
+	if a.To, to, err = models.ParseQuantity(strings.TrimSpace(parts[1])); err != nil {
 		return Axis{}, fmt.Errorf("parameter %q: to: %v", text, err)
+	}
+	// A bare 0 takes the other end's unit.
+	switch {
+	case from == to || to == models.Dimensionless:
+		a.Unit = from.Unit
+	case from == models.Dimensionless:
+		a.Unit = to.Unit
+	default:
+		return Axis{}, fmt.Errorf("parameter %q: from is a %s, to a %s", text, from.Name, to.Name)
 	}
 	if a.Steps, err = strconv.Atoi(strings.TrimSpace(parts[2])); err != nil || a.Steps < 1 || a.Steps > 100000 {
 		return Axis{}, fmt.Errorf("parameter %q: steps %q: want a whole number from 1 to 100000", text, parts[2])

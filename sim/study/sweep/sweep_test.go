@@ -3,12 +3,15 @@ package sweep_test
 import (
 	"bytes"
 	"context"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
+	"teeter/sim"
 	"teeter/sim/rig"
+	"teeter/sim/study/metric"
 	"teeter/sim/study/plot"
 	"teeter/sim/study/sweep"
 )
@@ -18,6 +21,7 @@ func pendulumSweep(workers int, shard sweep.Shard) sweep.Spec {
 		Axes:     []sweep.Axis{{Path: "actuators.backlash", From: 0, To: 0.02, Steps: 3}, {Path: "ankle_loop.kp", From: 2, To: 6, Steps: 2}},
 		Metrics:  []string{"peak_tilt", "osc_amplitude", "effort"},
 		Duration: 1,
+		Seeds:    2,
 		Seed:     7,
 		Workers:  workers,
 		Shard:    shard,
@@ -54,6 +58,32 @@ func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
 	}
 	if len(one.Points) != 6 || one.Total != 6 {
 		t.Fatalf("got %d of %d points, want 6", len(one.Points), one.Total)
+	}
+	// Each point's mean and worst are those of its runs with its own seeds
+	// (the definitions of the mean and of the largest, here of the
+	// effort, which the sensor noise drives).
+	ps, err := r.Params(one.Axes)
+	if err != nil {
+		t.Fatal(err)
+	}
+	pt := one.Points[4]
+	v, err := ps.Variant(pt.Values)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var efforts []float64
+	for k := range 2 {
+		o, err := v.Run(1, sim.Options{Seed: 7 + uint64(pt.Index*2+k)})
+		if err != nil {
+			t.Fatal(err)
+		}
+		efforts = append(efforts, metric.Effort(o))
+	}
+	if efforts[0] == efforts[1] {
+		t.Errorf("the two seeds gave the same effort %g: the seed did not reach the runs", efforts[0])
+	}
+	if pt.Metrics[2] != (efforts[0]+efforts[1])/2 || pt.Worst[2] != math.Max(efforts[0], efforts[1]) {
+		t.Errorf("point %d: mean %g and worst %g, its seeds' efforts %v", pt.Index, pt.Metrics[2], pt.Worst[2], efforts)
 	}
 	// The points differ from each other: the parameters reached the runs.
 	if one.Points[0].Metrics[2] == one.Points[1].Metrics[2] && one.Points[0].Metrics[2] == one.Points[4].Metrics[2] {
@@ -101,7 +131,7 @@ func TestSweepIndependentOfWorkersAndShards(t *testing.T) {
 	}
 	for _, ext := range []string{".png", ".svg"} {
 		file := filepath.Join(dir, "heat"+ext)
-		if err := plot.Sweep(merged, "osc_amplitude", file); err != nil {
+		if err := plot.Sweep(merged, plot.Options{Metric: "osc_amplitude"}, file); err != nil {
 			t.Fatal(err)
 		}
 		if st, err := os.Stat(file); err != nil || st.Size() < 100 {
@@ -131,7 +161,7 @@ func TestSweepFailedPointAndCancel(t *testing.T) {
 	}
 	// Cancel after the first point: what is done is kept and still reads.
 	ctx, cancel := context.WithCancel(context.Background())
-	spec = sweep.Spec{Axes: []sweep.Axis{{Path: "actuators.backlash", From: 0, To: 0.01, Steps: 20}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 1,
+	spec = sweep.Spec{Axes: []sweep.Axis{{Path: "actuators.backlash", From: 0, To: 0.01, Steps: 20}}, Metrics: []string{"peak_tilt"}, Duration: 0.3, Workers: 1, Seeds: 1,
 		Progress: func(done, total int) { cancel() }}
 	res, err = sweep.Run(ctx, r, spec)
 	if err != context.Canceled {
@@ -151,13 +181,13 @@ func TestSweepFailedPointAndCancel(t *testing.T) {
 
 func TestParseAxisAndShard(t *testing.T) {
 	a, err := sweep.ParseAxis("actuators.backlash=0:2mm:9")
-	if err != nil || a.Path != "actuators.backlash" || a.From != 0 || a.To != 0.002 || a.Steps != 9 {
+	if err != nil || a.Path != "actuators.backlash" || a.From != 0 || a.To != 0.002 || a.Steps != 9 || a.Unit != "m" {
 		t.Fatalf("%+v %v", a, err)
 	}
 	if v := a.Value(8); v != 0.002 {
 		t.Errorf("last value %g", v)
 	}
-	for _, bad := range []string{"x", "p=1:2", "p=a:2:3", "p=1:2:0", "=1:2:3"} {
+	for _, bad := range []string{"x", "p=1:2", "p=a:2:3", "p=1:2:0", "=1:2:3", "p=1mm:2deg:3"} {
 		if _, err := sweep.ParseAxis(bad); err == nil {
 			t.Errorf("sweep.ParseAxis(%q) accepted", bad)
 		}
