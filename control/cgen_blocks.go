@@ -252,6 +252,7 @@ func (p *pidBlock) cEmit(w *cWriter) {
 		fmt.Sprintf("    if (!%s) {", st("started")),
 		fmt.Sprintf("        %s = y;", st("last_y")),
 		fmt.Sprintf("        %s = 1;", st("started")),
+		fmt.Sprintf("        %s = 0;", st("retune")),
 		"    }",
 		fmt.Sprintf("    if (%s) {", st("retune")),
 		fmt.Sprintf("        %s += %s * (%s * r - y) - kp * (b * r - y);", st("integral"), st("old_kp"), st("old_b")),

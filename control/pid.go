@@ -146,7 +146,9 @@ func (p *pidBlock) tick(g *Graph) {
 	r, y := p.input(g, 0), p.input(g, 1)
 	h := g.h
 	if !p.started {
-		p.lastY, p.started = y, true
+		// A change before the first tick has no earlier output to keep
+		// smooth: the first output is the new gains' own.
+		p.lastY, p.started, p.retune = y, true, false
 	}
 	if p.retune {
 		p.integral += p.oldKp*(p.oldB*r-y) - p.kp*(p.b*r-y)

@@ -235,3 +235,29 @@ blocks:
 		}
 	}
 }
+
+func TestGainsSetBeforeTheFirstTickAreTheStartingGains(t *testing.T) {
+	// A gain set applied before the controller has run is how it starts,
+	// not a change while running: the first output is the new gains' own
+	// P action, u = kp (b r - y) (the PID law; Astrom and Hagglund,
+	// Advanced PID Control, 2006, sec. 3.5). Bumpless transfer applies
+	// only to a change after an output exists.
+	g := build(t, `
+rate: 100 Hz
+blocks:
+  - {name: y, kind: sensor, channel: plant.y}
+  - {name: r, kind: constant, value: 1}
+  - {name: c, kind: pid, kp: 1, ki: 0, kd: 0, input: {setpoint: r, measurement: y}}
+  - {name: u, kind: actuator, actuator: drive, input: c}
+`, []string{"plant.y"}, []string{"drive"})
+	if err := g.Set("c.kp", 0.5); err != nil {
+		t.Fatal(err)
+	}
+	u := []float64{0}
+	for k := 0; k < 3; k++ {
+		g.Tick(float64(k)/100, []float64{0.2}, u)
+		if want := 0.5 * (1 - 0.2); math.Abs(u[0]-want) > 1e-12 {
+			t.Fatalf("tick %d: u = %g, want kp (r - y) = %g with the gain set before the start", k, u[0], want)
+		}
+	}
+}
