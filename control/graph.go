@@ -505,6 +505,61 @@ func (g *Graph) applyLocked() {
 	g.pending.Store(false)
 }
 
+// stateful is a block that keeps state beyond its outputs' slots.
+type stateful interface {
+	stateLen() int
+	saveState(dst []float64)
+	loadState(src []float64)
+}
+
+// StateLen is the length of the graph's state as SaveState writes it: every
+// signal slot (filters, delays and rate limits read their last output
+// back), then each block's own state (integrals, derivative filters,
+// sequencer states) in evaluation order. Studies read and write it to
+// linearise a closed loop around a state.
+func (g *Graph) StateLen() int {
+	n := len(g.signalNames)
+	for _, b := range g.order {
+		if s, ok := b.(stateful); ok {
+			n += s.stateLen()
+		}
+	}
+	return n
+}
+
+// SaveState writes the graph's state into dst, which holds StateLen
+// values. It allocates nothing.
+func (g *Graph) SaveState(dst []float64) {
+	at := copy(dst, g.vals[:len(g.signalNames)])
+	for _, b := range g.order {
+		if s, ok := b.(stateful); ok {
+			s.saveState(dst[at:])
+			at += s.stateLen()
+		}
+	}
+}
+
+// LoadState sets the graph's state from src, as SaveState wrote it.
+func (g *Graph) LoadState(src []float64) {
+	at := copy(g.vals[:len(g.signalNames)], src)
+	for _, b := range g.order {
+		if s, ok := b.(stateful); ok {
+			s.loadState(src[at:])
+			at += s.stateLen()
+		}
+	}
+}
+
+// flag and isSet carry a block's switches in a state vector.
+func flag(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
+}
+
+func isSet(x float64) bool { return x >= 0.5 }
+
 // SignalNames names every block output as "block.output", in file order.
 func (g *Graph) SignalNames() []string { return append([]string(nil), g.signalNames...) }
 

@@ -401,6 +401,10 @@ type startsAtInput struct {
 
 func (k *startsAtInput) reset(g *Graph) { g.vals[k.out], k.started = 0, false }
 
+func (k *startsAtInput) stateLen() int           { return 1 }
+func (k *startsAtInput) saveState(dst []float64) { dst[0] = flag(k.started) }
+func (k *startsAtInput) loadState(src []float64) { k.started = isSet(src[0]) }
+
 // start sets the output to x on the first tick after a reset and reports
 // whether it did.
 func (k *startsAtInput) start(g *Graph, x float64) bool {

@@ -107,6 +107,14 @@ func (p *pidBlock) reset(g *Graph) {
 	}
 }
 
+func (p *pidBlock) stateLen() int { return 4 }
+func (p *pidBlock) saveState(dst []float64) {
+	dst[0], dst[1], dst[2], dst[3] = p.integral, p.deriv, p.lastY, flag(p.started)
+}
+func (p *pidBlock) loadState(src []float64) {
+	p.integral, p.deriv, p.lastY, p.started = src[0], src[1], src[2], isSet(src[3])
+}
+
 // filterTime is the derivative filter time constant: tf, or Td/N with
 // Td = kd/kp when the filter is given as N.
 func (p *pidBlock) filterTime() float64 {

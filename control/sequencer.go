@@ -327,6 +327,22 @@ func (s *sequencerBlock) reset(g *Graph) {
 	s.drive(g)
 }
 
+func (s *sequencerBlock) stateLen() int { return 3 + s.nOut + len(s.latched) }
+func (s *sequencerBlock) saveState(dst []float64) {
+	dst[0], dst[1], dst[2] = float64(s.current), s.entered, flag(s.started)
+	copy(dst[3:], s.from)
+	for i, l := range s.latched {
+		dst[3+s.nOut+i] = flag(l)
+	}
+}
+func (s *sequencerBlock) loadState(src []float64) {
+	s.current, s.entered, s.started = int(src[0]), src[1], isSet(src[2])
+	copy(s.from, src[3:3+s.nOut])
+	for i := range s.latched {
+		s.latched[i] = isSet(src[3+s.nOut+i])
+	}
+}
+
 func (s *sequencerBlock) enter(g *Graph, state int) {
 	s.current, s.entered = state, g.now
 	copy(s.from, g.vals[s.out:s.out+s.nOut])
