@@ -50,7 +50,7 @@ func Measure(ctx context.Context, r *rig.Rig, runs int) (Report, error) {
 	rep.RealtimeFactor = p.Time() / wall
 	rep.StepsPerSecond = p.Time() * p.PhysicsRate() / wall
 	spec := sweep.Spec{Axes: []sweep.Axis{{Path: "actuators.backlash", From: 0, To: 0.002, Steps: runs}}, Metrics: []string{"peak_tilt"},
-		Duration: 1, Shoves: []sim.Shove{{At: 0.3, Impulse: models.Vec2{X: 0.5}}}}
+		Duration: 1, Shoves: []sim.Shove{{At: 0.3, Impulse: models.Vec2{X: 0.5}}}, Seeds: 1}
 	for _, w := range []int{1, 2} {
 		spec.Workers = w
 		start := time.Now()
