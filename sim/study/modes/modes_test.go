@@ -187,3 +187,37 @@ func TestRaisingLegGainsMovesTheSwayMode(t *testing.T) {
 		t.Errorf("simulated oscillation %.3f deg at kp 4 against %.3f deg at kp 2; want it to grow several times", highAmp, lowAmp)
 	}
 }
+
+func TestLinearisedPDPendulum(t *testing.T) {
+	// The same pendulum and characteristic equation as
+	// TestModesOfPDPendulum (Ogata, ch. 3), its modes now from the
+	// eigenvalues of the closed loop linearised by finite differences.
+	const mass, icom, d, c, g = 1.5, 0.069, 0.633, 0.02, 9.80665 // from models/builtin/pendulum.yaml
+	const torque = 20.0                                          // N*m per unit command
+	inertia := icom + mass*d*d
+	wn := 2 * math.Pi * 2.0
+	zeta := 0.3
+	a := (inertia*wn*wn + mass*g*d) / torque
+	b := (2*zeta*wn*inertia - c) / torque
+	lin, err := Linearise(pdPendulum(t, a, b, torque), Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	modes, err := lin.Modes()
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := dominant(modes)
+	t.Logf("modes:\n%s", Table(modes, 0))
+	t.Logf("dominant %.4f Hz, zeta %.4f; characteristic equation %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
+	// The loop is sampled at 1 kHz and the foot sits on stiff pads, which
+	// the equation leaves out: allow 1 % on the frequency, 3 % on zeta.
+	if math.Abs(got.FrequencyHz*2*math.Pi-wn)/wn > 0.01 || math.Abs(got.Damping-zeta)/zeta > 0.03 {
+		t.Errorf("linearised %.4f Hz, zeta %.4f; want %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
+	}
+	for _, m := range modes {
+		if m.Unstable() {
+			t.Errorf("the stable PD pendulum has an unstable mode: %+v", m)
+		}
+	}
+}
