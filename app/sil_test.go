@@ -165,3 +165,28 @@ done
 		t.Errorf("a bad --exec-timeout: exit %d, %s", code, errOut)
 	}
 }
+
+func TestMarginStopsOnAFailingProgram(t *testing.T) {
+	// A controller program that dies is a broken study, not a robot that
+	// fell without a shove: margin must stop with the program's error.
+	if _, err := exec.LookPath("sh"); err != nil {
+		t.Skip("no sh")
+	}
+	prog := filepath.Join(t.TempDir(), "dies.sh")
+	script := `#!/bin/sh
+read header; read in; read out
+echo ready
+read line; echo "c 0 0 0 0 0 0"
+echo "motor driver lost" >&2; exit 3
+`
+	if err := os.WriteFile(prog, []byte(script), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errOut := runTeeter(t, "margin", "--model", "builtin:frontal", "--dir", "left", "--seeds", "1", "--controller-exec", prog)
+	if code == 0 {
+		t.Fatalf("margin succeeded with a dead program:\n%s", out)
+	}
+	if !strings.Contains(errOut, "exit status 3") {
+		t.Errorf("the error does not name the program's failure: %q", errOut)
+	}
+}

@@ -5,6 +5,7 @@ package margin
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"runtime"
@@ -137,7 +138,9 @@ func Find(ctx context.Context, r *rig.Rig, spec Spec) ([]Result, error) {
 		stands[k] = &standing{r: r, spec: spec, seed: spec.Seed + uint64(k)}
 	}
 	searches := len(spec.Dirs) * spec.Seeds
-	s := &search{ctx: ctx, spec: spec, perDir: max(1, spec.Workers/searches), try: func(k int, u sim.Shove, j float64) bool {
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	s := &search{ctx: ctx, cancel: cancel, spec: spec, perDir: max(1, spec.Workers/searches), try: func(k int, u sim.Shove, j float64) (bool, error) {
 		return stands[k].survives(u, j)
 	}}
 	s.estimate = searches * (2 + int(math.Ceil(math.Log2(spec.Max/spec.Tol)/math.Log2(float64(s.perDir+1)))))
@@ -166,6 +169,9 @@ func Find(ctx context.Context, r *rig.Rig, spec Spec) ([]Result, error) {
 		}
 	}
 	g.Wait()
+	if s.err != nil {
+		return nil, s.err
+	}
 	results := make([]Result, len(spec.Dirs))
 	for d, dir := range spec.Dirs {
 		results[d] = summarise(dir, edges[d])
@@ -194,13 +200,16 @@ type search struct {
 	ctx  context.Context
 	spec Spec
 	// try tells whether the robot with the k-th seed stays up after the
-	// unit shove scaled to an impulse.
-	try      func(k int, u sim.Shove, j float64) bool
-	perDir   int // impulses tried at once in one search
-	estimate int // runs expected, for progress
+	// unit shove scaled to an impulse; an error is a failure that is not
+	// the robot's (a controller that broke, a rig that does not build).
+	try      func(k int, u sim.Shove, j float64) (bool, error)
+	cancel   context.CancelFunc // stops the search at the first such error
+	perDir   int                // impulses tried at once in one search
+	estimate int                // runs expected, for progress
 
 	mu   sync.Mutex
 	done int
+	err  error // the first failure that stopped the search
 }
 
 // standing holds one seed's robots standing at the shove time, saved there:
@@ -222,7 +231,7 @@ type stand struct {
 
 // survives runs the rig with the unit shove u scaled to impulse j (0: no
 // shove) and tells whether the robot stayed up.
-func (ss *standing) survives(u sim.Shove, j float64) bool {
+func (ss *standing) survives(u sim.Shove, j float64) (bool, error) {
 	spec := ss.spec
 	shoves := []sim.Shove{}
 	if j > 0 {
@@ -233,20 +242,34 @@ func (ss *standing) survives(u sim.Shove, j float64) bool {
 	if ss.r.Program != nil {
 		// A controller program cannot be replayed: run it whole.
 		o, err := ss.r.Run(end, sim.Options{Seed: ss.seed, Shoves: shoves})
-		return err == nil && !o.Summary.Fell
+		return verdict(err, o != nil && o.Summary.Fell)
 	}
 	st, err := ss.get()
 	if err != nil {
-		return false // fell, blew up or failed before the shove
+		return verdict(err, false) // fell, blew up or failed before the shove
 	}
 	defer ss.put(st)
 	if err := st.p.Restore(st.saved); err != nil {
-		return false
+		return false, err
 	}
 	if err := st.p.Schedule(shoves); err != nil {
-		return false
+		return false, err
 	}
-	return st.p.RunFor(end-st.p.Time()) == nil
+	return verdict(st.p.RunFor(end-st.p.Time()), false)
+}
+
+// verdict turns a run's end into survived or not. A fall and a physics
+// blow-up (a shove too violent for the step) are the robot not surviving;
+// anything else, such as a controller that failed, is an error of the
+// study, not a margin.
+func verdict(err error, fell bool) (bool, error) {
+	switch {
+	case err == nil:
+		return !fell, nil
+	case errors.Is(err, sim.ErrFallen), errors.Is(err, sim.ErrBlowUp):
+		return false, nil
+	}
+	return false, err
 }
 
 // get takes a standing robot, making one if none is free.
@@ -281,12 +304,16 @@ func (ss *standing) put(st *stand) {
 
 // survives tries one impulse and counts the run for the progress.
 func (s *search) survives(k int, u sim.Shove, j float64) bool {
-	ok := s.try(k, u, j)
+	ok, err := s.try(k, u, j)
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if err != nil && s.err == nil {
+		s.err = fmt.Errorf("margin: seed %d, %.4g N*s: %w", s.spec.Seed+uint64(k), j, err)
+		s.cancel()
+	}
 	if s.spec.Progress != nil {
-		s.mu.Lock()
 		s.done++
 		s.spec.Progress(min(s.done, s.estimate), s.estimate)
-		s.mu.Unlock()
 	}
 	return ok
 }

@@ -102,7 +102,7 @@ func TestSearchFindsAKnownEdge(t *testing.T) {
 		for _, perDir := range []int{1, 2, 4, 7} {
 			for _, near := range []*Edge{nil, {Survived: 0.01}, {Survived: edge * 0.9}, {Survived: edge * 1.5}, {Survived: 100, Capped: true}, {Unpushed: true}} {
 				s := &search{ctx: context.Background(), spec: spec, perDir: perDir,
-					try: func(_ int, _ sim.Shove, j float64) bool { return j < edge }}
+					try: func(_ int, _ sim.Shove, j float64) (bool, error) { return j < edge, nil }}
 				res := s.direction(0, sim.Shove{}, near)
 				if res.Capped || res.Unpushed || !(res.Survived < edge && edge <= res.Fell && res.Fell-res.Survived <= tol) {
 					t.Errorf("edge %g, %d per round, near %+v: %+v", edge, perDir, near, res)
@@ -112,11 +112,11 @@ func TestSearchFindsAKnownEdge(t *testing.T) {
 	}
 	// An edge above Max is capped; a plant that falls unpushed says so.
 	spec = Spec{Tol: tol, Max: 20}.Filled(&models.Robot{})
-	capped := (&search{ctx: context.Background(), spec: spec, perDir: 2, try: func(int, sim.Shove, float64) bool { return true }}).direction(0, sim.Shove{}, nil)
+	capped := (&search{ctx: context.Background(), spec: spec, perDir: 2, try: func(int, sim.Shove, float64) (bool, error) { return true, nil }}).direction(0, sim.Shove{}, nil)
 	if !capped.Capped || capped.Survived != 20 {
 		t.Errorf("no edge below the limit: %+v", capped)
 	}
-	unpushed := (&search{ctx: context.Background(), spec: spec, perDir: 2, try: func(int, sim.Shove, float64) bool { return false }}).direction(0, sim.Shove{}, nil)
+	unpushed := (&search{ctx: context.Background(), spec: spec, perDir: 2, try: func(int, sim.Shove, float64) (bool, error) { return false, nil }}).direction(0, sim.Shove{}, nil)
 	if !unpushed.Unpushed {
 		t.Errorf("falls unpushed: %+v", unpushed)
 	}
@@ -154,8 +154,8 @@ func TestStartingFromTheShoveTimeGivesTheSameVerdicts(t *testing.T) {
 			shove := []sim.Shove{{At: spec.At, Impulse: models.Vec2{X: -j}}}
 			o, err := r.Run(spec.At+spec.Settle, sim.Options{Seed: seed, Shoves: shove})
 			want := err == nil && !o.Summary.Fell
-			if got := st.survives(left, j); got != want {
-				t.Errorf("seed %d, %g N*s: survives %v from the shove time, %v from t = 0", seed, j, got, want)
+			if got, err := st.survives(left, j); err != nil || got != want {
+				t.Errorf("seed %d, %g N*s: survives %v (%v) from the shove time, %v from t = 0", seed, j, got, err, want)
 			}
 			kinds[want]++
 		}
