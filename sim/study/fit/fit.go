@@ -4,18 +4,22 @@
 // logged signals against the simulated ones, with an uncertainty for each
 // and a verdict on whether the log tells it at all.
 //
-// The search is gonum's Nelder-Mead simplex, in log-parameter space for
-// parameters that must be positive: the cost is not smooth in every
-// parameter (backlash opens and closes a gap, the pots are quantized), the
-// simplex needs no derivatives, and log space makes a step a ratio, so
-// parameters of very different size share one simplex. A value the model
-// refuses (models.SetParam) costs +Inf, which keeps the search inside each
+// The search is Levenberg-Marquardt on the weighted residuals, on gonum's
+// linear algebra (gonum's optimize package has no least-squares method, and
+// its Nelder-Mead, which needs no derivatives, stalled far from the hidden
+// values once four parameters were fitted together: the cost is a narrow
+// curved valley that Levenberg-Marquardt follows with the Jacobian it
+// needs for the uncertainties anyway). Parameters that must be positive are
+// searched in log space, so a step is a ratio and parameters of very
+// different size share one search. A value the model refuses
+// (models.SetParam) costs +Inf, which keeps the search inside each
 // parameter's valid range. Whole-number parameters (a sensor latency in
-// samples) are searched over every whole value near their start, before and
-// after the simplex. At the optimum a central-difference Jacobian of the
-// weighted residuals gives the covariance s^2 (J^T J)^-1 with s^2 the
-// residual variance per degree of freedom (Press et al., Numerical Recipes,
-// 3rd ed., ch. 15.4-15.5).
+// samples) are searched over every whole value near their current one,
+// before and after. A replay driven by logged commands alone drifts, so the
+// search fits a short span of the log first and lengthens it (windows). At
+// the optimum a central-difference Jacobian of the weighted residuals gives
+// the covariance s^2 (J^T J)^-1 with s^2 the residual variance per degree
+// of freedom (Press et al., Numerical Recipes, 3rd ed., ch. 15.4-15.5).
 package fit
 
 import (
@@ -30,7 +34,6 @@ import (
 
 	"golang.org/x/sync/errgroup"
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/optimize"
 
 	"teeter/models"
 	"teeter/sim"
@@ -42,7 +45,8 @@ type Spec struct {
 	Log   *Log
 	Paths []string // robot parameter paths (models.SetParam)
 	// Signals are the log columns compared (default: every sensor channel
-	// of the robot that the log has).
+	// of the robot that the log has but the accelerometers' tilt; see
+	// roughChannel).
 	Signals []string
 	// From and To bound the compared rows, s of log time counted from its
 	// first row; To 0 means the end. The replay always starts at the first
@@ -50,8 +54,6 @@ type Spec struct {
 	From, To float64
 	// Shoves are the pushes given while logging, timed from the first row.
 	Shoves []sim.Shove
-	// MaxEvaluations bounds the simplex's replays (default 80 per parameter).
-	MaxEvaluations int
 	// Workers run replays in parallel where the method allows (default:
 	// every core).
 	Workers  int
@@ -73,7 +75,7 @@ type Param struct {
 	// Estimate is the cost's minimum, also when not identifiable.
 	Estimate float64 `json:"estimate"`
 	// Uncertainty is one standard deviation, SI; +Inf when the log does
-	// not tell the parameter.
+	// not tell the parameter, NaN when the fit is poor (Result.Poor).
 	Uncertainty  float64 `json:"-"`
 	Whole        bool    `json:"whole"`
 	Identifiable bool    `json:"identifiable"`
@@ -93,11 +95,18 @@ type Signal struct {
 
 // Result is a finished fit.
 type Result struct {
-	Params      []Param
-	Signals     []Signal
-	Rows        int // log rows compared
-	CostBefore  float64
-	CostAfter   float64
+	Params     []Param
+	Signals    []Signal
+	Rows       int // log rows compared
+	CostBefore float64
+	CostAfter  float64
+	// ReducedChiSquare is CostAfter per degree of freedom: about 1 when the
+	// model explains the log to within its noise.
+	ReducedChiSquare float64
+	// Poor says why the uncertainties are not valid ("" when they are):
+	// misfit the noise does not explain, or a search that stopped short of
+	// the minimum (the cost is rough at small scales); they are then NaN.
+	Poor        string
 	Evaluations int
 	Status      string
 	// Robot is the input robot with the identifiable values changed.
@@ -124,9 +133,12 @@ const correlationNote = 0.95
 // wholeReach is how far from its start a whole-number parameter is searched.
 const wholeReach = 4
 
-// fdStep is the central-difference step in the search coordinates: 2 % of
-// a positive parameter, 2 % of the scale of another.
-const fdStep = 0.02
+// searchStep and curvatureStep are the central-difference steps in the
+// search coordinates (fractions of a positive parameter or of the scale of
+// another): small for the search, which needs the local slope; larger for
+// the uncertainties, which want the valley's width, not the roughness the
+// contacts add at small scales.
+const searchStep, curvatureStep = 1e-3, 2e-2
 
 // Run fits the rig's robot to the log. The controller of the rig is not
 // used (the replay drives the actuators); its columns are still known in
@@ -168,9 +180,14 @@ type fitter struct {
 	simRow  []int // recorder row for each compared log row
 	tEnd    float64
 	workers int
-	evals   int
-	best    float64
+	*tally
 	missing []string
+}
+
+// tally counts the replays of one fit across its windows.
+type tally struct {
+	evals int
+	best  float64 // lowest cost so far in the current window
 }
 
 func newFitter(r *rig.Rig, spec Spec) (*fitter, error) {
@@ -181,13 +198,19 @@ func newFitter(r *rig.Rig, spec Spec) (*fitter, error) {
 	if len(spec.Paths) == 0 {
 		return nil, errors.New("fit: no parameters to fit")
 	}
-	f := &fitter{spec: spec, rate: r.ControlRate(), workers: spec.Workers, best: math.Inf(1)}
+	f := &fitter{spec: spec, rate: r.ControlRate(), workers: spec.Workers, tally: &tally{best: math.Inf(1)}}
 	if f.workers <= 0 {
 		f.workers = runtime.GOMAXPROCS(0)
 	}
 	f.origin, f.base = r.Robot, r.Robot.Clone()
 	SetInitialPose(f.base, l)
 	f.base.NoiseScale = 0 // the noise is in the log; the replay predicts the clean signal
+	// The replay predicts the pots' readings before rounding too: rounded,
+	// the cost is a staircase in every parameter, which defeats the
+	// search's derivatives; in the log the rounding is one more error.
+	for i := range f.base.Sensors {
+		f.base.Sensors[i].Bits = 0
+	}
 	seen := map[string]bool{}
 	for _, p := range spec.Paths {
 		if seen[p] {
@@ -264,7 +287,7 @@ func (f *fitter) chooseSignals() error {
 	names := f.spec.Signals
 	if len(names) == 0 {
 		for _, ch := range models.Channels(f.base) {
-			if l.Column(ch) != nil {
+			if l.Column(ch) != nil && !roughChannel(ch) {
 				names = append(names, ch)
 			}
 		}
@@ -296,6 +319,14 @@ func (f *fitter) chooseSignals() error {
 	}
 	return nil
 }
+
+// roughChannel reports whether a channel is left out of the default
+// signals: an accelerometer's tilt follows the link's acceleration, which
+// jumps at every contact impulse, so a replay a little off puts its jumps a
+// step early or late and the cost becomes rough at scales far below the
+// uncertainty the other signals give (on the frontal robot it stopped the
+// search at seven times the cost at the hidden values).
+func roughChannel(ch string) bool { return strings.HasSuffix(ch, ".accel_tilt") }
 
 // noiseOf estimates a signal's noise from its second differences, which
 // take out a smooth signal and leave 6 times the variance of white noise:
@@ -385,20 +416,30 @@ func (f *fitter) residuals(simulated [][]float64) []float64 {
 	return out
 }
 
-// cost is the weighted sum of squares for values; +Inf when the model
-// refuses them or the replay blows up.
-func (f *fitter) cost(values []float64) float64 {
+// evaluate replays values and returns the weighted residuals and their sum
+// of squares, counted as one replay; nil and +Inf when the model refuses
+// the values or the replay blows up.
+func (f *fitter) evaluate(values []float64) ([]float64, float64) {
 	s, err := f.replay(values)
-	c := math.Inf(1)
-	if err == nil {
-		c = sumSquares(f.residuals(s))
+	if err != nil {
+		f.count(math.Inf(1))
+		return nil, math.Inf(1)
 	}
-	f.evals++
-	f.best = math.Min(f.best, c)
+	r := f.residuals(s)
+	c := sumSquares(r)
+	f.count(c)
+	return r, c
+}
+
+// count adds replays of the given costs to the tally and reports progress.
+func (f *fitter) count(costs ...float64) {
+	for _, c := range costs {
+		f.evals++
+		f.best = math.Min(f.best, c)
+	}
 	if f.spec.Progress != nil {
 		f.spec.Progress(Progress{Evaluations: f.evals, Best: f.best})
 	}
-	return c
 }
 
 func sumSquares(r []float64) float64 {
@@ -420,27 +461,23 @@ func (f *fitter) run(ctx context.Context) (*Result, error) {
 	}
 	res := &Result{Rows: len(f.rows), Missing: f.missing}
 	res.CostBefore = sumSquares(f.residuals(before))
-	cur := res.CostBefore
 	status := "converged"
-	for round := 0; round < 2 && ctx.Err() == nil; round++ {
-		changed := f.searchWhole(ctx, values, &cur)
-		if round > 0 && !changed {
-			break
-		}
-		var s string
-		if s, err = f.simplex(ctx, values, &cur); err != nil {
-			return nil, err
-		}
-		if s != "" {
+	for _, n := range f.windows() {
+		w := f.window(n)
+		if s := w.search(ctx, values); s != "" {
 			status = s
+		}
+		if ctx.Err() != nil {
+			break
 		}
 	}
 	after, err := f.replay(values)
 	if err != nil {
 		return nil, fmt.Errorf("fit: replaying the fitted model: %v", err)
 	}
-	res.CostAfter = sumSquares(f.residuals(after))
-	res.Params = f.uncertainties(ctx, values, res.CostAfter)
+	resid := f.residuals(after)
+	res.CostAfter = sumSquares(resid)
+	res.Params, res.ReducedChiSquare, res.Poor = f.uncertainties(ctx, values, resid)
 	if ctx.Err() != nil {
 		status = "stopped"
 	}
@@ -460,6 +497,60 @@ func (f *fitter) run(ctx context.Context) (*Result, error) {
 	}
 	res.Before, res.After = before, after
 	return res, ctx.Err()
+}
+
+// firstWindow is the span of log compared first, s.
+const firstWindow = 1.0
+
+// windows are the row counts compared in turn: the first second of the
+// compared span, then twice as much each time up to all of it. A replay
+// driven by logged commands alone drifts from the log further the longer it
+// runs, so over a long span the cost is a narrow valley that a search from
+// far misses; a short span fits roughly and leads the longer ones there
+// (continuation).
+func (f *fitter) windows() []int {
+	t0 := f.spec.Log.Time[0]
+	from := f.spec.Log.Time[f.rows[0]] - t0
+	var out []int
+	for span := firstWindow; ; span *= 2 {
+		n := 0
+		for n < len(f.rows) && f.spec.Log.Time[f.rows[n]]-t0 <= from+span {
+			n++
+		}
+		if n == len(f.rows) {
+			return append(out, n)
+		}
+		if n >= 3 {
+			out = append(out, n)
+		}
+	}
+}
+
+// window is the fitter comparing the first n rows only; the replays end
+// there too.
+func (f *fitter) window(n int) *fitter {
+	w := *f
+	w.rows, w.simRow = f.rows[:n], f.simRow[:n]
+	w.tEnd = f.spec.Log.Time[f.rows[n-1]] - f.spec.Log.Time[0]
+	w.best = math.Inf(1)
+	return &w
+}
+
+// search lowers the cost from values, written back: whole parameters value
+// by value, then the continuous ones by Levenberg-Marquardt, again while
+// the whole ones change (at most twice). It returns a status word when it
+// stopped for a reason other than convergence.
+func (f *fitter) search(ctx context.Context, values []float64) string {
+	_, cur := f.evaluate(values)
+	status := ""
+	for round := 0; round < 2 && ctx.Err() == nil; round++ {
+		changed := f.searchWhole(ctx, values, &cur)
+		if round > 0 && !changed {
+			break
+		}
+		status = f.levenbergMarquardt(ctx, values, &cur)
+	}
+	return status
 }
 
 // searchWhole tries every whole value within wholeReach of each whole
@@ -515,79 +606,177 @@ func (f *fitter) parallel(ctx context.Context, n int, at func(int) []float64) []
 		})
 	}
 	g.Wait()
-	for _, c := range out {
-		f.evals++
-		f.best = math.Min(f.best, c)
-	}
-	if f.spec.Progress != nil {
-		f.spec.Progress(Progress{Evaluations: f.evals, Best: f.best})
+	f.count(out...)
+	return out
+}
+
+// continuous lists the parameters that are not whole numbers.
+func (f *fitter) continuous() []int {
+	var out []int
+	for i, a := range f.axes {
+		if !a.whole {
+			out = append(out, i)
+		}
 	}
 	return out
 }
 
-// simplex runs Nelder-Mead over the continuous parameters from values,
-// writing the best back. It returns a status word when the search stopped
-// for a reason other than convergence.
-func (f *fitter) simplex(ctx context.Context, values []float64, cur *float64) (string, error) {
-	var idx []int
-	for i, a := range f.axes {
-		if !a.whole {
-			idx = append(idx, i)
-		}
-	}
-	if len(idx) == 0 {
-		return "", nil
-	}
-	toValues := func(x []float64) []float64 {
-		v := slices.Clone(values)
-		for k, i := range idx {
-			v[i] = f.axes[i].value(x[k])
-		}
-		return v
-	}
-	x0 := make([]float64, len(idx))
-	for k, i := range idx {
-		a := f.axes[i]
-		if a.logScale {
-			x0[k] = math.Log(values[i] / a.start)
+// moved is values with the continuous parameters cont stepped by dx in the
+// search coordinates.
+func (f *fitter) moved(values []float64, cont []int, dx []float64) []float64 {
+	v := slices.Clone(values)
+	for k, i := range cont {
+		if f.axes[i].logScale {
+			v[i] *= math.Exp(dx[k])
 		} else {
-			x0[k] = (values[i] - a.start) / a.scale
+			v[i] += f.axes[i].scale * dx[k]
 		}
 	}
-	maxEvals := f.spec.MaxEvaluations
-	if maxEvals <= 0 {
-		maxEvals = 80 * len(idx)
-	}
-	problem := optimize.Problem{Func: func(x []float64) float64 {
-		if ctx.Err() != nil {
-			return math.Inf(1)
-		}
-		return f.cost(toValues(x))
-	}}
-	settings := &optimize.Settings{
-		FuncEvaluations: maxEvals,
-		// Converged when a full round of simplex moves improves the cost
-		// by less than a thousandth of a unit of chi-square per parameter.
-		Converger: &optimize.FunctionConverge{Absolute: 1e-3, Relative: 1e-7, Iterations: 3 * (len(idx) + 1)},
-	}
-	res, err := optimize.Minimize(problem, x0, settings, &optimize.NelderMead{SimplexSize: 0.4})
-	if res == nil {
-		return "", fmt.Errorf("fit: Nelder-Mead: %v", err)
-	}
-	if res.F < *cur {
-		*cur = res.F
-		copy(values, toValues(res.X))
-	}
-	if res.Status == optimize.FunctionEvaluationLimit {
-		return "evaluation limit", nil
-	}
-	return "", nil
+	return v
 }
+
+// jacobian is the central-difference Jacobian of the weighted residuals at
+// values with respect to the search coordinates of cont, the replays run
+// on the workers; nil when a replay beside values fails.
+func (f *fitter) jacobian(ctx context.Context, values []float64, cont []int, h float64) *mat.Dense {
+	res := make([][]float64, 2*len(cont))
+	var g errgroup.Group
+	g.SetLimit(f.workers)
+	for k := range res {
+		dx := make([]float64, len(cont))
+		dx[k/2] = h
+		if k%2 == 1 {
+			dx[k/2] = -h
+		}
+		v := f.moved(values, cont, dx)
+		g.Go(func() error {
+			if ctx.Err() == nil {
+				if s, err := f.replay(v); err == nil {
+					res[k] = f.residuals(s)
+				}
+			}
+			return nil
+		})
+	}
+	g.Wait()
+	f.evals += len(res)
+	f.count()
+	m := len(f.signals) * len(f.rows)
+	jac := mat.NewDense(m, len(cont), nil)
+	for k := range cont {
+		plus, minus := res[2*k], res[2*k+1]
+		if plus == nil || minus == nil {
+			return nil
+		}
+		for r := range m {
+			jac.Set(r, k, (plus[r]-minus[r])/(2*h))
+		}
+	}
+	return jac
+}
+
+// Levenberg-Marquardt settings: the damping starts at lmDamping, a step is
+// at most lmMaxStep in the search coordinates (a factor of 2 for a positive
+// parameter), and the search stops when an iteration lowers the cost by
+// less than lmTolerance of it or after lmIterations.
+const (
+	lmDamping    = 1e-2
+	lmMaxStep    = 0.7
+	lmTolerance  = 1e-4
+	lmIterations = 30
+)
+
+// levenbergMarquardt lowers the cost over the continuous parameters from
+// values, writing the best back: each iteration solves
+// (J^T J + lambda diag J^T J) dx = -J^T r and takes the step if it lowers
+// the cost, else raises lambda tenfold and tries again (Marquardt 1963;
+// Numerical Recipes, ch. 15.5.2). It returns a status word when it stopped
+// for a reason other than convergence.
+func (f *fitter) levenbergMarquardt(ctx context.Context, values []float64, cur *float64) string {
+	cont := f.continuous()
+	if len(cont) == 0 {
+		return ""
+	}
+	n := len(cont)
+	lambda := lmDamping
+	r, _ := f.evaluate(values)
+	if r == nil {
+		return "the replay failed"
+	}
+	resid := mat.NewVecDense(len(r), r)
+	for iter := 0; iter < lmIterations; iter++ {
+		if ctx.Err() != nil {
+			return ""
+		}
+		jac := f.jacobian(ctx, values, cont, searchStep)
+		if jac == nil {
+			return "the replay failed next to the current values"
+		}
+		var jtj mat.SymDense
+		jtj.SymOuterK(1, jac.T())
+		var grad mat.VecDense
+		grad.MulVec(jac.T(), resid)
+		largest := 0.0
+		for k := range n {
+			largest = math.Max(largest, jtj.At(k, k))
+		}
+		if largest == 0 {
+			return "" // the log tells none of them; the verdicts say so
+		}
+		accepted := false
+		for lambda < 1e10 && ctx.Err() == nil {
+			a := mat.NewSymDense(n, nil)
+			a.CopySym(&jtj)
+			for k := range n {
+				a.SetSym(k, k, jtj.At(k, k)+lambda*math.Max(jtj.At(k, k), 1e-9*largest))
+			}
+			var chol mat.Cholesky
+			dx := mat.NewVecDense(n, nil)
+			if !chol.Factorize(a) || chol.SolveVecTo(dx, &grad) != nil {
+				lambda *= 10
+				continue
+			}
+			step := make([]float64, n)
+			for k := range n {
+				step[k] = math.Max(-lmMaxStep, math.Min(lmMaxStep, -dx.AtVec(k)))
+			}
+			trial := f.moved(values, cont, step)
+			rt, c := f.evaluate(trial)
+
+			if c < *cur {
+				gain := *cur - c
+				*cur = c
+				copy(values, trial)
+				resid = mat.NewVecDense(len(rt), rt)
+				lambda = math.Max(lambda/10, 1e-7)
+				accepted = true
+				if gain < lmTolerance*c {
+					return ""
+				}
+				break
+			}
+			lambda *= 10
+		}
+		if !accepted {
+			return "" // no step lowers the cost: at the minimum as far as the steps tell
+		}
+	}
+	return "iteration limit"
+}
+
+// poorFitLimit is the reduced chi-square above which a fit is called
+// poor: each signal weighed by its own noise, a model that explains the log
+// leaves chi-square about equal to its degrees of freedom (Numerical
+// Recipes, ch. 15.1), and twice that is misfit the noise does not explain.
+// The covariance takes such misfit for noise, so it gives no uncertainty.
+const poorFitLimit = 2
 
 // uncertainties gives each parameter its standard deviation and verdict:
 // central differences for the continuous ones, the neighbours' costs for
-// whole ones.
-func (f *fitter) uncertainties(ctx context.Context, values []float64, cost float64) []Param {
+// whole ones. It returns the reduced chi-square and, when the fit is poor
+// or the search stopped short of a minimum, why; the uncertainties are then
+// NaN (not valid) rather than misleadingly small.
+func (f *fitter) uncertainties(ctx context.Context, values, resid []float64) ([]Param, float64, string) {
 	out := make([]Param, len(f.axes))
 	var cont []int
 	for i, a := range f.axes {
@@ -596,23 +785,35 @@ func (f *fitter) uncertainties(ctx context.Context, values []float64, cost float
 			cont = append(cont, i)
 		}
 	}
-	dof := float64(len(f.signals)*len(f.rows) - len(f.axes))
-	s2 := math.Max(cost/math.Max(dof, 1), 1e-12)
+	cost := sumSquares(resid)
+	reduced := cost / math.Max(float64(len(resid)-len(f.axes)), 1)
+	s2 := math.Max(reduced, 1e-12)
 	for i, a := range f.axes {
 		if a.whole {
 			f.wholeVerdict(ctx, &out[i], values, i, cost, s2)
 		}
 	}
+	short := 0.0
 	if len(cont) > 0 {
-		f.continuousVerdicts(ctx, out, values, cont, s2)
+		short = f.continuousVerdicts(ctx, out, values, cont, resid, s2)
+	}
+	var poor []string
+	if reduced > poorFitLimit {
+		poor = append(poor, fmt.Sprintf("chi-square per degree of freedom is %.3g, well above 1: the model leaves misfit that the log's noise does not explain", reduced))
+	}
+	if short > 1 {
+		poor = append(poor, fmt.Sprintf("the search stopped %.3g standard deviations short of the minimum the slope at its end points to", short))
 	}
 	for i := range out {
 		out[i].Value = out[i].Start
 		if out[i].Identifiable {
 			out[i].Value = out[i].Estimate
+			if len(poor) > 0 {
+				out[i].Uncertainty = math.NaN()
+			}
 		}
 	}
-	return out
+	return out, reduced, strings.Join(poor, "; ")
 }
 
 // wholeVerdict calls a whole parameter told when both neighbours (one, at
@@ -644,53 +845,18 @@ func (f *fitter) wholeVerdict(ctx context.Context, p *Param, values []float64, i
 }
 
 // continuousVerdicts fills the uncertainties of the continuous parameters
-// from the Jacobian of the weighted residuals at values.
-func (f *fitter) continuousVerdicts(ctx context.Context, out []Param, values []float64, cont []int, s2 float64) {
-	step := func(k int) []float64 {
-		i := cont[k/2]
-		a := f.axes[i]
-		v := slices.Clone(values)
-		h := fdStep
-		if k%2 == 1 {
-			h = -h
+// from the Jacobian of the weighted residuals at values. It returns how far
+// the Gauss-Newton step from values reaches, in standard deviations (the
+// square root of the chi-square decrease it predicts, over s2): a search
+// ended at a minimum has it well below 1.
+func (f *fitter) continuousVerdicts(ctx context.Context, out []Param, values []float64, cont []int, resid []float64, s2 float64) float64 {
+	jac := f.jacobian(ctx, values, cont, curvatureStep)
+	if jac == nil {
+		for _, i := range cont {
+			out[i].Uncertainty = math.Inf(1)
+			out[i].Note = "the replay failed next to the optimum"
 		}
-		if a.logScale {
-			v[i] *= math.Exp(h)
-		} else {
-			v[i] += a.scale * h
-		}
-		return v
-	}
-	res := make([][]float64, 2*len(cont))
-	var g errgroup.Group
-	g.SetLimit(f.workers)
-	for k := range res {
-		v := step(k)
-		g.Go(func() error {
-			if ctx.Err() == nil {
-				if s, err := f.replay(v); err == nil {
-					res[k] = f.residuals(s)
-				}
-			}
-			return nil
-		})
-	}
-	g.Wait()
-	f.evals += len(res)
-	m := len(f.signals) * len(f.rows)
-	jac := mat.NewDense(m, len(cont), nil)
-	for k := range cont {
-		plus, minus := res[2*k], res[2*k+1]
-		if plus == nil || minus == nil {
-			for _, i := range cont {
-				out[i].Uncertainty = math.Inf(1)
-				out[i].Note = "the replay failed next to the optimum"
-			}
-			return
-		}
-		for r := range m {
-			jac.Set(r, k, (plus[r]-minus[r])/(2*fdStep))
-		}
+		return 0
 	}
 	cov := covariance(jac, s2)
 	for k, i := range cont {
@@ -721,6 +887,29 @@ func (f *fitter) continuousVerdicts(ctx context.Context, out []Param, values []f
 		}
 		out[i].Note = strings.Join(notes, "; ")
 	}
+	return math.Sqrt(gaussNewtonDecrease(jac, resid) / s2)
+}
+
+// gaussNewtonDecrease is the decrease of the sum of squares that a full
+// Gauss-Newton step predicts, |U U^T r|^2 over the singular directions
+// the covariance keeps (Numerical Recipes, ch. 15.4.2).
+func gaussNewtonDecrease(jac *mat.Dense, resid []float64) float64 {
+	var svd mat.SVD
+	if !svd.Factorize(jac, mat.SVDThin) {
+		return 0
+	}
+	sv := svd.Values(nil)
+	var u mat.Dense
+	svd.UTo(&u)
+	r := mat.NewVecDense(len(resid), resid)
+	sum := 0.0
+	for k, w := range sv {
+		if w > 1e-9*sv[0] {
+			d := mat.Dot(u.ColView(k), r)
+			sum += d * d
+		}
+	}
+	return sum
 }
 
 // covariance is s2 (J^T J)^-1 by the singular value decomposition of J;

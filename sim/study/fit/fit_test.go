@@ -2,6 +2,7 @@ package fit
 
 import (
 	"bytes"
+	"cmp"
 	"context"
 	"encoding/json"
 	"math"
@@ -163,5 +164,66 @@ func TestNotIdentifiable(t *testing.T) {
 	b, _ := json.Marshal(again.Params)
 	if !bytes.Equal(a, b) {
 		t.Errorf("two fits of one log differ:\n%s\n%s", a, b)
+	}
+}
+
+// TestFitFrontalTogether: the issue's recovery test. The frontal robot is
+// shoved left and right; backlash, pad stiffness, screw no-load speed,
+// motor time constant and torso IMU latency, all hidden, are fitted
+// together from 40-100 % off (hidden 0.5 mm, 3e4 N/m, 14 mm/s, 35 ms, 2
+// samples; start 0.3 mm, 5e4 N/m, 20 mm/s, 20 ms, 1 sample). Bounds from
+// the issue: 10 %, 10 %, 5 %, 20 %, latency exact. With the model exact and
+// each signal weighed by its noise, chi-square per degree of freedom is
+// about 1 (Numerical Recipes, ch. 15.1).
+func TestFitFrontalTogether(t *testing.T) {
+	start := frontal(t)
+	if err := models.SetParam(start.Robot, "actuators.backlash", 0.3e-3); err != nil {
+		t.Fatal(err)
+	}
+	hidden := map[string]float64{"actuators.backlash": 0.5e-3, "feet.pad_stiffness": 3e4,
+		"actuators.no_load_speed": 14e-3, "actuators.time_constant": 35e-3, "sensors.torso_imu.latency": 2}
+	bound := map[string]float64{"actuators.backlash": 0.1, "feet.pad_stiffness": 0.1,
+		"actuators.no_load_speed": 0.05, "actuators.time_constant": 0.2, "sensors.torso_imu.latency": 0}
+	l := synthetic(t, start, hidden, 3, leftRight, 21)
+	spec := Spec{Log: l, Shoves: leftRight, Paths: []string{"actuators.backlash", "feet.pad_stiffness",
+		"actuators.no_load_speed", "actuators.time_constant", "sensors.torso_imu.latency"}}
+	res, err := Run(context.Background(), start, spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("%s in %d replays: cost %.4g -> %.4g, chi-square per degree of freedom %.3g", res.Status, res.Evaluations, res.CostBefore, res.CostAfter, res.ReducedChiSquare)
+	for _, path := range spec.Paths {
+		p := param(t, res, path)
+		off := p.Value/hidden[path] - 1
+		t.Logf("  %s: hidden %.4g, %+.2f %% off", path, hidden[path], 100*off)
+		if math.Abs(off) > bound[path] || !p.Identifiable {
+			t.Errorf("%s = %g (identifiable %v), want %g within %g %%", path, p.Value, p.Identifiable, hidden[path], 100*bound[path])
+		}
+	}
+	if res.ReducedChiSquare > poorFitLimit {
+		t.Errorf("an exact model left chi-square per degree of freedom %.3g", res.ReducedChiSquare)
+	}
+	t.Logf("uncertainties: %s", cmp.Or(res.Poor, "valid"))
+}
+
+// TestPoorFitSaysSo: the log's pads are stiffer than the model's, and only
+// the backlash is fitted, so no value explains the log: chi-square per
+// degree of freedom stays far above 1 (Numerical Recipes, ch. 15.1), and
+// the fit must say so and give no uncertainty rather than one computed from
+// misfit taken for noise.
+func TestPoorFitSaysSo(t *testing.T) {
+	start := frontal(t)
+	if err := models.SetParam(start.Robot, "actuators.backlash", 0.3e-3); err != nil {
+		t.Fatal(err)
+	}
+	l := synthetic(t, start, map[string]float64{"actuators.backlash": 0.5e-3, "feet.pad_stiffness": 2e4}, 2, leftRight, 7)
+	res, err := Run(context.Background(), start, Spec{Log: l, Shoves: leftRight, Paths: []string{"actuators.backlash"}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := param(t, res, "actuators.backlash")
+	t.Logf("chi-square per degree of freedom %.3g: %s", res.ReducedChiSquare, res.Poor)
+	if res.Poor == "" || !math.IsNaN(p.Uncertainty) {
+		t.Errorf("a model that cannot explain the log (chi-square per degree of freedom %.3g) gave uncertainty %g and no warning", res.ReducedChiSquare, p.Uncertainty)
 	}
 }
