@@ -31,7 +31,6 @@ func cmdFit(args []string, stdout, stderr io.Writer) error {
 	fs.Var(&shoves, "shove", "a shove given while logging, timed from the log's first row (repeatable)")
 	out := fs.String("out", "", "write the fitted robot file here")
 	plotFile := fs.String("plot", "", "write the overlay of logged and simulated signals here (.png)")
-	evals := fs.Int("evaluations", 0, "most replays for the simplex (default 80 per parameter)")
 	asJSON := fs.Bool("json", false, "print the result as one JSON object")
 	if err := parseFlags(fs, args); err != nil {
 		return err
@@ -39,7 +38,7 @@ func cmdFit(args []string, stdout, stderr io.Writer) error {
 	if *logFile == "" || *paths == "" {
 		return usageError{errors.New("give the log with --log and the parameters with --param")}
 	}
-	spec := fit.Spec{Paths: strings.Split(*paths, ","), MaxEvaluations: *evals}
+	spec := fit.Spec{Paths: strings.Split(*paths, ",")}
 	if *signals != "" {
 		spec.Signals = strings.Split(*signals, ",")
 	}
@@ -110,6 +109,8 @@ type fitJSON struct {
 	Signals      map[string]fitSignal `json:"signals"`
 	CostBefore   float64              `json:"cost_before"`
 	CostAfter    float64              `json:"cost_after"`
+	ReducedChi2  float64              `json:"reduced_chi_square"`
+	Poor         string               `json:"uncertainties_not_valid,omitempty"`
 	Rows         int                  `json:"rows"`
 	Evaluations  int                  `json:"evaluations"`
 	Status       string               `json:"status"`
@@ -127,7 +128,7 @@ func printFit(stdout io.Writer, res *fit.Result, out, plotFile string, asJSON bo
 	if asJSON {
 		j := fitJSON{Params: map[string]float64{}, Uncertainty: map[string]*float64{}, Identifiable: map[string]bool{},
 			Start: map[string]float64{}, Estimate: map[string]float64{}, Notes: map[string]string{}, Signals: map[string]fitSignal{},
-			CostBefore: res.CostBefore, CostAfter: res.CostAfter, Rows: res.Rows, Evaluations: res.Evaluations, Status: res.Status, Held: res.Missing}
+			CostBefore: res.CostBefore, CostAfter: res.CostAfter, ReducedChi2: res.ReducedChiSquare, Poor: res.Poor, Rows: res.Rows, Evaluations: res.Evaluations, Status: res.Status, Held: res.Missing}
 		for _, p := range res.Params {
 			j.Params[p.Path], j.Identifiable[p.Path], j.Start[p.Path], j.Estimate[p.Path] = p.Value, p.Identifiable, p.Start, p.Estimate
 			j.Uncertainty[p.Path] = nil
@@ -144,10 +145,15 @@ func printFit(stdout io.Writer, res *fit.Result, out, plotFile string, asJSON bo
 		}
 		return json.NewEncoder(stdout).Encode(j)
 	}
-	fmt.Fprintf(stdout, "fitted %d parameters to %d rows in %d replays (%s): cost %.4g -> %.4g\n",
-		len(res.Params), res.Rows, res.Evaluations, res.Status, res.CostBefore, res.CostAfter)
+	fmt.Fprintf(stdout, "fitted %d parameters to %d rows in %d replays (%s): cost %.4g -> %.4g, %.3g per degree of freedom\n",
+		len(res.Params), res.Rows, res.Evaluations, res.Status, res.CostBefore, res.CostAfter, res.ReducedChiSquare)
+	if res.Poor != "" {
+		fmt.Fprintf(stdout, "uncertainties not valid: %s\n", res.Poor)
+	}
 	for _, p := range res.Params {
 		switch {
+		case p.Identifiable && math.IsNaN(p.Uncertainty):
+			fmt.Fprintf(stdout, "  %-34s %12.5g -> %12.5g +- (not valid)\n", p.Path, p.Start, p.Value)
 		case p.Identifiable:
 			fmt.Fprintf(stdout, "  %-34s %12.5g -> %12.5g +- %.2g\n", p.Path, p.Start, p.Value, p.Uncertainty)
 		default:
