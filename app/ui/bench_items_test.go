@@ -1,6 +1,8 @@
 package ui
 
 import (
+	"image"
+	"math"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -276,5 +278,79 @@ func TestLoopSwitchesInTheGainsTab(t *testing.T) {
 	w.Undo()
 	if got, _ := w.run.Gain("ballast_loop.on"); got != 1 || !row.onOff.Checked {
 		t.Fatalf("after undo on = %g, checked %v", got, row.onOff.Checked)
+	}
+}
+
+func TestTheViewShowsItsScaleAndWhichWayItLooks(t *testing.T) {
+	// The scale bar is as long, in pixels, as its labelled length beside
+	// the torso drawn to the same scale: the frontal torso is 320 mm wide
+	// (models/builtin/frontal.yaml). The top right names the view: frontal
+	// robots are seen from behind, sagittal ones from the side.
+	w, _ := openTest(t, "builtin:frontal")
+	img := w.view.render(900, 600).(*image.RGBA)
+	ink := func(x, y int) bool { return near(img.RGBAAt(x, y), pal.Ink, 40) }
+	bar := 0
+	for x := 14; x < 400 && ink(x, 22); x++ {
+		bar++
+	}
+	pose, root := torsoPose(t, w)
+	c := pose.Apply(root.Shape.Center)
+	_, py := w.view.v.toPixel(c)
+	torso := 0
+	for x := 0; x < 900; x++ {
+		if near(img.RGBAAt(x, int(py)), pal.Torso, 8) {
+			torso++
+		}
+	}
+	var mm float64
+	for _, l := range scaleBars {
+		if l/1000*w.view.v.Scale >= 60 {
+			mm = l
+			break
+		}
+	}
+	if bar == 0 || torso == 0 {
+		t.Fatalf("bar %d px, torso %d px", bar, torso)
+	}
+	if got, want := float64(bar)/float64(torso), mm/320; math.Abs(got-want) > 0.08*want {
+		t.Errorf("scale bar %d px for %g mm against the 320 mm torso's %d px: ratio %.3f, want %.3f", bar, mm, torso, got, want)
+	}
+	inkIn := func(img *image.RGBA, x0, x1 int) int {
+		n := 0
+		for y := 10; y < 34; y++ {
+			for x := x0; x < x1; x++ {
+				if near(img.RGBAAt(x, y), pal.Ink, 60) {
+					n++
+				}
+			}
+		}
+		return n
+	}
+	if inkIn(img, 700, 890) < 30 {
+		t.Error("no 'seen from behind' at the top right of the frontal view")
+	}
+}
+
+func TestDefaultTracesAreTheLoopsAndResetRunsOn(t *testing.T) {
+	// The traces a builder watches first: the outer loop's measurement
+	// (the torso tilt estimate) and the loops' outputs, not raw gyro noise.
+	w, _ := openTest(t, "builtin:sagittal")
+	want := []string{"torso_tilt.out", "body_loop.out", "hip_loop.out"}
+	for _, n := range want {
+		if !slices.Contains(w.shown, n) {
+			t.Errorf("default traces %v lack %s", w.shown, n)
+		}
+	}
+	for _, n := range w.shown {
+		if strings.HasSuffix(n, ".rate") {
+			t.Errorf("default traces show the raw gyro %s", n)
+		}
+	}
+	// Reset keeps a running robot running.
+	<-w.run.Run()
+	w.reset()
+	<-w.run.SetSpeed(1) // handled after the reset's commands
+	if !w.run.Status().Running {
+		t.Fatal("reset paused a running robot")
 	}
 }

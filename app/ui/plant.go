@@ -86,7 +86,7 @@ func (s *simPlant) Signals(dst []float64) {
 
 // sceneFromSnapshot fills sc from a plant snapshot, reusing its slices.
 func sceneFromSnapshot(sc *scene, r *models.Robot, s *sim.Snapshot) {
-	sc.GroundTilt, sc.StepX, sc.StepHeight = r.Ground.Tilt, r.Ground.StepX, r.Ground.StepHeight
+	sc.GroundTilt, sc.StepX, sc.StepHeight, sc.Plane = r.Ground.Tilt, r.Ground.StepX, r.Ground.StepHeight, r.Plane
 	sc.Links = sc.Links[:0]
 	for _, l := range s.Links {
 		sc.Links = append(sc.Links, sceneLink{Name: l.Name, Pose: models.Pose{Position: l.Position, Angle: l.Angle}, Shape: l.Shape, Root: l.Name == r.Root})

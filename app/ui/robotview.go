@@ -160,7 +160,15 @@ func (rv *robotView) drawShoveArrow() {
 	dc.ClosePath()
 	dc.Fill()
 	j := rv.impulse()
-	dc.DrawStringAnchored(fmt.Sprintf("%.2f N*s", math.Hypot(j.X, j.Y)), bx+8, by-8, 0, 0)
+	label := fmt.Sprintf("%.2f N·s", math.Hypot(j.X, j.Y))
+	// Beside the arrow's head, on the side that keeps it in the view.
+	lw, lh := dc.MeasureString(label)
+	x, ax := bx+8, 0.0
+	if x+lw > float64(rv.v.W)-4 {
+		x, ax = bx-8, 1
+	}
+	y := math.Max(by-8, lh+4)
+	dc.DrawStringAnchored(label, x, y, ax, 0)
 }
 
 // Dragged follows a drag. Each event carries the pointer position and the

@@ -1,6 +1,7 @@
 package ui
 
 import (
+	"fmt"
 	"image/color"
 	"math"
 
@@ -25,6 +26,7 @@ type scene struct {
 	Support                       [2]float64 // x range of the support region on the ground
 	HasSup                        bool
 	GroundTilt, StepX, StepHeight float64
+	Plane                         models.Plane
 }
 
 type sceneLink struct {
@@ -154,6 +156,43 @@ func drawScene(dc *gg.Context, sc *scene, v view) {
 		dc.LineTo(x+6, y+9)
 		dc.ClosePath()
 		dc.Fill()
+	}
+	drawKey(dc, sc, v)
+}
+
+// scaleBars are the lengths a scale bar may show, in millimetres.
+var scaleBars = []float64{5, 10, 20, 50, 100, 200, 500, 1000, 2000}
+
+// drawKey marks the view's scale and which way it looks: a bar of a round
+// length at the top left, and at the top right whether the robot is seen
+// from behind (frontal: its left on the left) or from the side (sagittal:
+// forward to the right).
+func drawKey(dc *gg.Context, sc *scene, v view) {
+	mm := scaleBars[len(scaleBars)-1]
+	for _, l := range scaleBars {
+		if l/1000*v.Scale >= 60 {
+			mm = l
+			break
+		}
+	}
+	px := mm / 1000 * v.Scale
+	const x0, y0 = 14.0, 22.0
+	dc.SetColor(pal.Ink)
+	dc.SetLineWidth(2)
+	dc.DrawLine(x0, y0, x0+px, y0)
+	dc.DrawLine(x0, y0-5, x0, y0+5)
+	dc.DrawLine(x0+px, y0-5, x0+px, y0+5)
+	dc.Stroke()
+	dc.DrawStringAnchored(fmt.Sprintf("%g mm", mm), x0+px+8, y0, 0, 0.35)
+	label := ""
+	switch sc.Plane {
+	case models.Frontal:
+		label = "seen from behind"
+	case models.Sagittal:
+		label = "forward →"
+	}
+	if label != "" {
+		dc.DrawStringAnchored(label, float64(v.W)-14, y0, 1, 0.35)
 	}
 }
 

@@ -93,7 +93,7 @@ type Window struct {
 	lastVer   uint64
 	lastNames int
 
-	keyShove float64 // N*s of a keyboard shove
+	keyShove float64 // N·s of a keyboard shove
 	tickStop chan struct{}
 	// closing is set once the application loop is ending: late redraws
 	// from the ticker are skipped rather than run off the UI thread.
@@ -117,7 +117,7 @@ func newWindow(a fyne.App, opts Options, build live.Build[sim.Snapshot]) (*Windo
 	if err != nil {
 		return nil, err
 	}
-	run, err := live.New(live.Config[sim.Snapshot]{Robot: robot.Clone(), Build: build, TraceSeconds: 60})
+	run, err := live.New(live.Config[sim.Snapshot]{Robot: robot.Clone(), Build: build, TraceSeconds: 120})
 	if err != nil {
 		return nil, err
 	}
@@ -250,8 +250,8 @@ func (w *Window) build() {
 	pin := widget.NewButtonWithIcon("Pin reference", theme.ContentCopyIcon(), func() { w.run.PinReference(); w.lastVer = 0 })
 	unpin := widget.NewButton("Clear reference", func() { w.run.ClearReference(); w.lastVer = 0 })
 	freeze := widget.NewCheck("Freeze plots", func(on bool) { w.frozen = on; w.lastVer = 0 })
-	windowSel := widget.NewSelect([]string{"5 s", "10 s", "30 s"}, func(s string) {
-		w.window = map[string]float64{"5 s": 5, "10 s": 10, "30 s": 30}[s]
+	windowSel := widget.NewSelect([]string{"5 s", "10 s", "30 s", "60 s", "120 s"}, func(s string) {
+		w.window = map[string]float64{"5 s": 5, "10 s": 10, "30 s": 30, "60 s": 60, "120 s": 120}[s]
 		w.traces.window = w.window
 		w.lastVer = 0
 	})
@@ -298,8 +298,8 @@ func (w *Window) build() {
 	w.win.SetCloseIntercept(func() { w.win.Close() })
 }
 
-var speedNames = []string{"0.1x", "0.25x", "0.5x", "1x", "2x", "fastest"}
-var speedValues = map[string]float64{"0.1x": 0.1, "0.25x": 0.25, "0.5x": 0.5, "1x": 1, "2x": 2, "fastest": 0}
+var speedNames = []string{"0.1x", "0.25x", "0.5x", "1x", "2x", "5x", "10x", "fastest"}
+var speedValues = map[string]float64{"0.1x": 0.1, "0.25x": 0.25, "0.5x": 0.5, "1x": 1, "2x": 2, "5x": 5, "10x": 10, "fastest": 0}
 
 func (w *Window) showSpeed(v float64) {
 	for name, s := range speedValues {
@@ -347,9 +347,14 @@ func (w *Window) toggleRun() {
 	w.lastVer = 0
 }
 
+// reset puts the robot back at its start and, if it was running, runs on.
 func (w *Window) reset() {
 	w.notice.SetText("")
+	running := w.run.Status().Running
 	w.after(w.run.Reset())
+	if running {
+		w.after(w.run.Run())
+	}
 	w.lastVer = 0
 }
 
@@ -360,7 +365,7 @@ func (w *Window) shove(s sim.Shove) {
 	if link == "" {
 		link = "the watched link"
 	}
-	w.notice.SetText(fmt.Sprintf("Shove on %s: %.2f N*s", link, math.Hypot(s.Impulse.X, s.Impulse.Y)))
+	w.notice.SetText(fmt.Sprintf("Shove on %s: %.2f N·s", link, math.Hypot(s.Impulse.X, s.Impulse.Y)))
 }
 
 // keyboardShove pushes the watched link sideways by the set size.
@@ -441,7 +446,7 @@ func (w *Window) refresh() {
 	names := w.run.SignalNames()
 	if w.shown == nil || len(names) != w.lastNames {
 		w.lastNames = len(names)
-		w.shown = defaultSignals(names)
+		w.shown = defaultSignals(names, w.spec)
 	}
 	w.traces.names = names
 	w.traces.units = w.run.SignalUnits()
@@ -497,9 +502,11 @@ func (w *Window) showBanner(text string) {
 	w.banner.Show()
 }
 
-// defaultSignals picks up to six signals to plot at the start: the IMU
-// tilts and rates, then the first commands.
-func defaultSignals(names []string) []string {
+// defaultSignals picks up to six signals to plot at the start: what a
+// builder watches of the controller, outermost loop first: the outer PID's
+// measurement (the torso tilt estimate), then each PID's output in file
+// order. A robot without PIDs shows its IMU tilts and first commands.
+func defaultSignals(names []string, spec *control.Spec) []string {
 	var out []string
 	add := func(match func(string) bool) {
 		for _, n := range names {
@@ -508,8 +515,23 @@ func defaultSignals(names []string) []string {
 			}
 		}
 	}
+	is := func(name string) func(string) bool {
+		return func(n string) bool { return n == name || n == name+".out" }
+	}
+	if spec != nil {
+		for _, b := range spec.Blocks {
+			if b.Kind == "pid" && len(b.Inputs) > 1 && b.Inputs[1].Source != "" {
+				add(is(b.Inputs[1].Source))
+				break
+			}
+		}
+		for _, b := range spec.Blocks {
+			if b.Kind == "pid" {
+				add(is(b.Name))
+			}
+		}
+	}
 	add(func(n string) bool { return strings.HasSuffix(n, ".tilt") })
-	add(func(n string) bool { return strings.HasSuffix(n, ".rate") })
 	add(func(n string) bool { return strings.HasSuffix(n, ".command") })
 	add(func(string) bool { return true })
 	return out
