@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"strings"
 
 	"teeter/models"
@@ -11,7 +12,7 @@ import (
 )
 
 func init() {
-	commands = append(commands, command{"wobble", "backlash limit cycle: describing-function prediction beside the simulation", cmdWobble})
+	commands = append(commands, command{"wobble", "backlash limit cycle: describing-function prediction beside the simulation, each screw alone and all together", cmdWobble})
 }
 
 func cmdWobble(args []string, stdout, stderr io.Writer) error {
@@ -48,26 +49,33 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	}
 	unit := func(rotary bool, v float64) string {
 		if rotary {
-			return fmt.Sprintf("%.3f deg", v*180/3.141592653589793)
+			return fmt.Sprintf("%.3f deg", v*180/math.Pi)
 		}
 		return fmt.Sprintf("%.3f mm", v*1000)
 	}
-	fmt.Fprintf(stdout, "backlash %s in %s of %s\n", *backlashText, *acts, r.Robot.Name)
-	fmt.Fprintf(stdout, "%-12s %12s %12s %10s %10s\n", "", "screw amp", "output amp", "tilt deg", "freq Hz")
-	for _, p := range res.Predictions {
-		if !p.Found {
-			fmt.Fprintf(stdout, "%-12s no limit cycle predicted (harmonic balance residual %.3g)\n", p.Actuator, p.Residual)
-			continue
+	simulated := func(label string, rotary bool, s wobble.Simulated, screws bool) {
+		switch {
+		case s.Fell:
+			fmt.Fprintf(stdout, "%-12s %-10s the robot fell\n", label, "simulated")
+		case !s.Dominant:
+			fmt.Fprintf(stdout, "%-12s %-10s no dominant frequency: the tilt swings %.3f deg at most in one line\n", label, "simulated", s.TiltAmp)
+		case screws:
+			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", label, "simulated", unit(rotary, s.ScrewAmp), unit(rotary, s.OutputAmp), s.TiltAmp, s.FrequencyHz)
+		default:
+			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", label, "simulated", "", "", s.TiltAmp, s.FrequencyHz)
 		}
-		fmt.Fprintf(stdout, "%-12s %12s %12s %10.3f %10.3f   predicted, this loop alone\n", p.Actuator, unit(p.Rotary, p.ScrewAmp), unit(p.Rotary, p.OutputAmp), p.TiltAmp, p.FrequencyHz)
 	}
-	if res.Fell {
-		fmt.Fprintln(stdout, "simulated: the robot fell")
-		return nil
+	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then all together; every run shoved at 1 s\n", *backlashText, *acts, r.Robot.Name)
+	fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10s %10s\n", "", "", "screw amp", "output amp", "tilt deg", "freq Hz")
+	for _, l := range res.Loops {
+		p := l.Prediction
+		if p.Found {
+			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", p.Actuator, "predicted", unit(p.Rotary, p.ScrewAmp), unit(p.Rotary, p.OutputAmp), p.TiltAmp, p.FrequencyHz)
+		} else {
+			fmt.Fprintf(stdout, "%-12s %-10s %s\n", p.Actuator, "predicted", p.Why)
+		}
+		simulated("", p.Rotary, l.Sim, true)
 	}
-	fmt.Fprintf(stdout, "%-12s %12s %12s %10.3f %10.3f   simulated, all listed screws\n", "torso", "", "", res.TiltAmp, res.FrequencyHz)
-	for _, p := range res.Predictions {
-		fmt.Fprintf(stdout, "%-12s %12s %12s\n", p.Actuator, unit(p.Rotary, res.ScrewAmp[p.Actuator]), unit(p.Rotary, res.OutputAmp[p.Actuator]))
-	}
+	simulated("all", false, res.All, false)
 	return nil
 }

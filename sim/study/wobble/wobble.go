@@ -1,7 +1,8 @@
 // Package wobble predicts the limit cycle that backlash in a lead screw's
 // loop makes, by the describing function of backlash and harmonic balance
-// on the loop's linear part measured from the rig, and runs the rig with
-// the backlash to set the prediction beside the simulation.
+// on the loop's linear part measured from the rig by sine injection, and
+// runs the rig with the backlash, kicked, to set the prediction beside the
+// simulation.
 package wobble
 
 import (
@@ -40,22 +41,57 @@ func BacklashDF(a, width float64) complex128 {
 // BacklashCycle predicts the limit cycle of a loop made of a linear part
 // g(jw) and backlash of the given width in series, by harmonic balance:
 // 1 + N(a) g(jw) = 0. It scans the frequencies wlo..whi and the amplitudes
-// above the play for the pair that best satisfies the balance and
-// returns it, with the residual |1 + N g|; ok is false when no pair comes
-// within 1e-3.
+// above the play for every pair that satisfies the balance to within 1e-3,
+// keeps those that are stable cycles (stable), and returns the one of
+// largest amplitude with its residual |1 + N g|; ok is false when there is
+// none. Without a stable solution it returns the best pair found.
 func BacklashCycle(g func(w float64) complex128, width, wlo, whi float64) (a, w, residual float64, ok bool) {
-	best := math.Inf(1)
+	const n = 200
 	res := func(a, w float64) float64 { return cmplx.Abs(1 + BacklashDF(a, width)*g(w)) }
-	// Coarse grid on log scales, then a pattern search around the best.
-	for i := 0; i <= 200; i++ {
-		wi := wlo * math.Pow(whi/wlo, float64(i)/200)
-		for k := 1; k <= 200; k++ {
-			ak := width / 2 * math.Pow(1000, float64(k)/200)
-			if v := res(ak, wi); v < best {
-				best, a, w = v, ak, wi
+	ai := func(k int) float64 { return width / 2 * math.Pow(1000, float64(k)/n) }
+	wi := func(i int) float64 { return wlo * math.Pow(whi/wlo, float64(i)/n) }
+	grid := make([][]float64, n+1)
+	for i := range grid {
+		grid[i] = make([]float64, n+1)
+		for k := 1; k <= n; k++ {
+			grid[i][k] = res(ai(k), wi(i))
+		}
+		grid[i][0] = math.Inf(1)
+	}
+	best := math.Inf(1)
+	for i := 0; i <= n; i++ {
+		for k := 1; k <= n; k++ {
+			if !localMinimum(grid, i, k) {
+				continue
+			}
+			ca, cw, v := refine(res, ai(k), wi(i), width)
+			if v < best && !ok {
+				a, w, best = ca, cw, v
+			}
+			if v < 1e-3 && stable(g, ca, cw, width) && (!ok || ca > a) {
+				a, w, best, ok = ca, cw, v, true
 			}
 		}
 	}
+	return a, w, best, ok
+}
+
+func localMinimum(grid [][]float64, i, k int) bool {
+	v := grid[i][k]
+	for di := -1; di <= 1; di++ {
+		for dk := -1; dk <= 1; dk++ {
+			j, m := i+di, k+dk
+			if (di != 0 || dk != 0) && j >= 0 && j < len(grid) && m >= 0 && m < len(grid[j]) && grid[j][m] < v {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// refine is a pattern search for the balance from a grid point.
+func refine(res func(a, w float64) float64, a, w, width float64) (float64, float64, float64) {
+	best := res(a, w)
 	da, dw := a*0.05, w*0.05
 	for it := 0; it < 2000 && (da > a*1e-10 || dw > w*1e-10); it++ {
 		moved := false
@@ -68,105 +104,267 @@ func BacklashCycle(g func(w float64) complex128, width, wlo, whi float64) (a, w,
 			da, dw = da/2, dw/2
 		}
 	}
-	return a, w, best, best < 1e-3
+	return a, w, best
 }
 
-// The linear part of a loop closed through one screw's backlash is measured
-// from the rig itself: with no backlash the screw is rigid, so a slip d of
-// the screw (sim's NudgeScrew) enters the loop where the play would be. The
-// output then follows y = S d with S = 1/(1 + G), where G is everything the
-// output's motion does to the screw (sensors, controller, motor) in the
-// sign convention screw = -G y of BacklashCycle. The step response to the
-// slip is realised by the eigensystem realisation algorithm (package modes),
-// S(jw) read off the model, and G = 1/S - 1.
+// stable applies Loeb's criterion to a solution of the balance: writing
+// 1 + N(a) g(jw) = U + jV, the cycle is stable when
+// dU/da dV/dw - dU/dw dV/da > 0 (Gelb and Vander Velde, 1968, ch. 2; the
+// sign checked on the servo of the tests, whose larger cycle is the one
+// the simulation settles on).
+func stable(g func(w float64) complex128, a, w, width float64) bool {
+	f := func(a, w float64) complex128 { return 1 + BacklashDF(a, width)*g(w) }
+	ha, hw := a*1e-5, w*1e-5
+	fa := (f(a+ha, w) - f(a-ha, w)) / complex(2*ha, 0)
+	fw := (f(a, w+hw) - f(a, w-hw)) / complex(2*hw, 0)
+	return real(fa)*imag(fw)-real(fw)*imag(fa) > 0
+}
+
+// The linear part of a loop closed through one screw's backlash is what
+// the rest of the loop does with the joint's motion: the joint moves y, the
+// robot's dynamics, the sensors, the controller and the motor move the
+// screw x = -G y. With no play the screw is tied to the joint, so it is
+// measured by injection: the idealised rig (package modes: no noise, no
+// play anywhere) stands, a sine d is added between the screw and the joint
+// (the screw slips by d, the joint follows), and once the response is
+// steady G(jw) = -X/Y from the Fourier coefficients of x = screw - d and y
+// over whole periods. The describing function N(a) of backlash with input
+// x, output y, then closes the balance 1 + N(a) G(jw) = 0 (Slotine and Li,
+// Applied Nonlinear Control, 1991, ch. 5).
 
 // Spec asks for the backlash limit cycle of some screws.
 type Spec struct {
-	Actuators []string // lead screws given the backlash
+	Actuators []string // lead screws, each given the backlash in turn
 	Backlash  float64  // total play, m (or rad for rotary screws)
 	Duration  float64  // s of simulation (default 40)
 	Window    float64  // s at the end of it measured (default half the duration)
 	Seed      uint64
-	Lin       modes.Options // for the measurement of the linear part (Span default 3 s)
+	// Kick is the shove at 1 s that starts the simulated cycle, N*s
+	// (default 0.02 N*s per kg of robot).
+	Kick float64
 }
+
+// Why a prediction was not made.
+const (
+	NoBalance  = "no limit cycle: the harmonic balance has no solution"
+	Unfiltered = "no dominant harmonic: the loop passes the third harmonic as strongly as the fundamental"
+	Preloaded  = "no limit cycle: the joint's static load holds the play closed"
+	Rattles    = "the output rattles inside the play: the joint crosses it on its own, which backlash's describing function does not describe"
+)
 
 // Prediction is the describing function's answer for one screw's
-// loop, the other screws held rigid.
+// loop, the other screws without play.
 type Prediction struct {
 	Actuator    string  `json:"actuator"`
-	Found       bool    `json:"found"`        // the harmonic balance has a solution
-	ScrewAmp    float64 `json:"screw_amp"`    // amplitude at the backlash's input (the screw), m or rad
-	OutputAmp   float64 `json:"output_amp"`   // at its output (the driven coordinate)
-	TiltAmp     float64 `json:"tilt_amp_deg"` // of the torso tilt
-	FrequencyHz float64 `json:"frequency_hz"` // of the cycle
-	Residual    float64 `json:"residual"`     // |1 + N G| at the solution
-	Rotary      bool    `json:"rotary"`       // amplitudes in rad, else m
-	CrossoverHz float64 `json:"crossover_hz"` // where |G| = 1, for orientation
-	PhaseDeg    float64 `json:"phase_deg"`    // arg G there
+	Found       bool    `json:"found"`
+	Why         string  `json:"why,omitempty"` // when not found
+	ScrewAmp    float64 `json:"screw_amp"`     // amplitude at the backlash's input (the screw), m or rad
+	OutputAmp   float64 `json:"output_amp"`    // at its output (the joint)
+	TiltAmp     float64 `json:"tilt_amp_deg"`  // of the torso tilt
+	FrequencyHz float64 `json:"frequency_hz"`  // of the cycle
+	Residual    float64 `json:"residual"`      // |1 + N G| at the solution
+	Rotary      bool    `json:"rotary"`        // amplitudes in rad, else m
+	// StaticLoad is the screw's load standing, and LoadAmp the load's
+	// swing the cycle would need, N or N*m: a swing smaller than the
+	// static load never turns the load round to cross the play.
+	StaticLoad float64 `json:"static_load"`
+	LoadAmp    float64 `json:"load_amp"`
 }
 
-// Result puts the prediction beside the simulation.
+// Simulated is the rig run with the backlash in one screw, kicked.
+type Simulated struct {
+	Fell        bool    `json:"fell"`
+	Dominant    bool    `json:"dominant"` // one frequency carries most of the tilt's swing
+	TiltAmp     float64 `json:"tilt_amp_deg"`
+	FrequencyHz float64 `json:"frequency_hz"`
+	ScrewAmp    float64 `json:"screw_amp"` // m or rad
+	OutputAmp   float64 `json:"output_amp"`
+}
+
+// Loop is one screw's prediction beside its simulation.
+type Loop struct {
+	Prediction
+	Sim Simulated `json:"sim"`
+}
+
+// Result is every listed screw's loop, and the rig run with the backlash
+// in all of them at once.
 type Result struct {
-	Backlash    float64      `json:"backlash"`
-	Predictions []Prediction `json:"predictions"`
-	// The simulation with the backlash in every listed screw.
-	Fell        bool               `json:"fell"`
-	TiltAmp     float64            `json:"sim_tilt_amp_deg"`
-	FrequencyHz float64            `json:"sim_frequency_hz"`
-	ScrewAmp    map[string]float64 `json:"sim_screw_amp"` // per screw, m or rad
-	OutputAmp   map[string]float64 `json:"sim_output_amp"`
+	Backlash float64   `json:"backlash"`
+	Loops    []Loop    `json:"loops"`
+	All      Simulated `json:"all"`
 }
 
-// LinearPart measures the linear part G of the loop through one screw (see
-// above) and returns it as a function of w, with the frequency response
-// of the torso tilt to the screw's output, for converting amplitudes.
-func LinearPart(r *rig.Rig, actuator string, opt modes.Options) (g, tiltPerOutput func(w float64) complex128, err error) {
-	if opt.Span <= 0 {
-		opt.Span = 3
+// Response is the linear part of one screw's loop, measured at some
+// frequencies: G = -X/Y, the torso tilt and the screw's load per unit of
+// the joint's motion, and the screw's static load.
+type Response struct {
+	Actuator   string
+	Rotary     bool
+	Hz         []float64
+	G          []complex128
+	Tilt, Load []complex128
+	StaticLoad float64
+}
+
+// responseHz are the frequencies measured, a log scale over the range a
+// standing robot's loops live in.
+func responseHz() []float64 {
+	const lo, hi, n = 0.3, 15.0, 20
+	out := make([]float64, n)
+	for i := range out {
+		out[i] = lo * math.Pow(hi/lo, float64(i)/(n-1))
 	}
-	opt = opt.Filled()
+	return out
+}
+
+// Measure measures the linear part of the loop through one lead screw.
+func Measure(r *rig.Rig, actuator string, seed uint64) (*Response, error) {
 	ideal := modes.Ideal(r)
-	ks := modes.ScrewKicks(ideal.Robot, opt)
-	k := slices.IndexFunc(ks, func(k modes.Kick) bool { return k.Actuator == actuator })
-	if k < 0 {
-		return nil, nil, fmt.Errorf("wobble: %q is not a lead screw of %s", actuator, r.Robot.Name)
+	i := slices.IndexFunc(ideal.Robot.Actuators, func(a models.Actuator) bool { return a.Name == actuator })
+	if i < 0 || ideal.Robot.Actuators[i].Kind != models.LeadScrew || ideal.Robot.Actuators[i].Ballast {
+		return nil, fmt.Errorf("wobble: %q is not a lead screw of %s", actuator, r.Robot.Name)
 	}
-	outputs := []string{actuator + ".output", "torso_tilt"}
-	res, err := modes.Measure(ideal, opt, ks[k:k+1], outputs, 400)
+	res := &Response{Actuator: actuator, Rotary: modes.Rotary(ideal.Robot, &ideal.Robot.Actuators[i]), Hz: responseHz()}
+	// Well above the solver's 20 um of slop at a rigid screw, well below
+	// what upsets a standing robot.
+	amp := 1e-4
+	if res.Rotary {
+		amp = 0.2 * math.Pi / 180
+	}
+	p, _, err := ideal.Build(sim.Options{Seed: seed})
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
-	re, err := modes.ERA(res, opt.Order, opt.Tol)
+	const settle = 2.0
+	if err := p.RunFor(settle); err != nil {
+		return nil, fmt.Errorf("wobble: while settling: %w", err)
+	}
+	saved, err := p.Save()
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
-	step := func(w float64) (y, tilt complex128) {
-		h := re.Response(w)
-		// The slip is a step: S = H (1 - 1/z), and half a sample forward
-		// because the sampled differences lag the motion by that on average.
-		z := cmplx.Exp(complex(0, w*re.T))
-		f := (1 - 1/z) * cmplx.Sqrt(z)
-		return h[0] * f, h[1] * f
+	rec := p.Recorder()
+	cols := []int{rec.Index("time"), rec.Index(actuator + ".screw"), rec.Index(actuator + ".output"), rec.Index("torso_tilt"), rec.Index(actuator + ".force")}
+	for _, c := range cols {
+		if c < 0 {
+			return nil, errors.New("wobble: the recorder lacks a column the measurement needs")
+		}
 	}
-	memo := map[float64]complex128{} // the harmonic balance asks for each w many times
-	g = func(w float64) complex128 {
-		if v, ok := memo[w]; ok {
+	res.StaticLoad = rec.At(rec.Len()-1, cols[4])
+	for _, hz := range res.Hz {
+		if err := p.Restore(saved); err != nil {
+			return nil, err
+		}
+		w := 2 * math.Pi * hz
+		period := 1 / hz
+		start := settle + math.Max(1, period)   // the transient dies out
+		periods := math.Ceil(math.Max(3, 2*hz)) // at least 2 s
+		end := start + periods*period
+		injected := 0.0
+		first := rec.Len()
+		for p.Time() < end {
+			d := amp * math.Sin(w*(p.Time()-settle))
+			if err := p.NudgeScrew(actuator, d-injected); err != nil {
+				return nil, err
+			}
+			injected = d
+			if err := p.Step(); err != nil {
+				return nil, fmt.Errorf("wobble: injecting %.3g Hz at %s: %w", hz, actuator, err)
+			}
+		}
+		// Fourier coefficients at w over the whole periods from start,
+		// of each signal less its mean: the standing values are large
+		// beside the swing, and the samples cover whole periods only to
+		// within a sample.
+		var rows []int
+		for k := first; k < rec.Len(); k++ {
+			if t := rec.At(k, cols[0]); t >= start && t < end {
+				rows = append(rows, k)
+			}
+		}
+		if len(rows) == 0 {
+			return nil, fmt.Errorf("wobble: no samples at %.3g Hz", hz)
+		}
+		signal := func(k, c int) float64 {
+			v := rec.At(k, c)
+			if c == cols[1] {
+				v -= amp * math.Sin(w*(rec.At(k, cols[0])-settle))
+			}
 			return v
 		}
-		s, _ := step(w)
-		memo[w] = 1/s - 1
-		return memo[w]
+		coef := func(c int) complex128 {
+			mean := 0.0
+			for _, k := range rows {
+				mean += signal(k, c)
+			}
+			mean /= float64(len(rows))
+			var sum complex128
+			for _, k := range rows {
+				sum += complex(signal(k, c)-mean, 0) * cmplx.Exp(complex(0, -w*(rec.At(k, cols[0])-settle)))
+			}
+			return sum
+		}
+		x, y, tilt, load := coef(cols[1]), coef(cols[2]), coef(cols[3]), coef(cols[4])
+		if y == 0 {
+			return nil, fmt.Errorf("wobble: no response at %.3g Hz", hz)
+		}
+		res.G = append(res.G, -x/y)
+		res.Tilt = append(res.Tilt, tilt/y)
+		res.Load = append(res.Load, load/y)
 	}
-	tiltPerOutput = func(w float64) complex128 {
-		s, t := step(w)
-		return t / s
+	return res, nil
+}
+
+// at interpolates a measured response at w (rad/s): magnitude and phase
+// linear in log frequency, held at the ends.
+func (r *Response) at(v []complex128, w float64) complex128 {
+	hz := w / (2 * math.Pi)
+	k := sort.SearchFloat64s(r.Hz, hz)
+	switch {
+	case k == 0:
+		return v[0]
+	case k == len(r.Hz):
+		return v[len(v)-1]
 	}
-	return g, tiltPerOutput, nil
+	f := math.Log(hz/r.Hz[k-1]) / math.Log(r.Hz[k]/r.Hz[k-1])
+	m := math.Exp((1-f)*math.Log(cmplx.Abs(v[k-1])) + f*math.Log(cmplx.Abs(v[k])))
+	ph0 := cmplx.Phase(v[k-1])
+	ph1 := ph0 + math.Remainder(cmplx.Phase(v[k])-ph0, 2*math.Pi)
+	return cmplx.Rect(m, (1-f)*ph0+f*ph1)
+}
+
+// Predict solves the harmonic balance of the loop with the given play and
+// checks the describing function's assumptions at the answer.
+func (r *Response) Predict(width float64) Prediction {
+	pr := Prediction{Actuator: r.Actuator, Rotary: r.Rotary, StaticLoad: r.StaticLoad}
+	g := func(w float64) complex128 { return r.at(r.G, w) }
+	wlo, whi := 2*math.Pi*r.Hz[0], 2*math.Pi*r.Hz[len(r.Hz)-1]
+	a, w, resid, ok := BacklashCycle(g, width, wlo, whi)
+	pr.Residual = resid
+	if !ok {
+		pr.Why = NoBalance
+		return pr
+	}
+	out := a * cmplx.Abs(BacklashDF(a, width))
+	pr.LoadAmp = out * cmplx.Abs(r.at(r.Load, w))
+	switch {
+	case 3*w <= whi && cmplx.Abs(g(3*w)) >= cmplx.Abs(g(w)):
+		pr.Why = Unfiltered
+	case math.Abs(r.StaticLoad) > pr.LoadAmp:
+		pr.Why = Preloaded
+	default:
+		pr.Found = true
+		pr.ScrewAmp, pr.OutputAmp = a, out
+		pr.TiltAmp = out * cmplx.Abs(r.at(r.Tilt, w)) * 180 / math.Pi
+		pr.FrequencyHz = w / (2 * math.Pi)
+	}
+	return pr
 }
 
 // Run predicts the backlash limit cycle of each listed screw's loop by
-// the describing function and runs the rig with the backlash in all of
-// them to measure the real one.
+// the describing function and runs the rig with the backlash in that screw
+// alone, kicked, to measure the real one.
 func Run(r *rig.Rig, spec Spec) (*Result, error) {
 	if len(spec.Actuators) == 0 {
 		return nil, errors.New("wobble: no actuators given")
@@ -180,65 +378,95 @@ func Run(r *rig.Rig, spec Spec) (*Result, error) {
 	if spec.Window <= 0 || spec.Window > spec.Duration {
 		spec.Window = spec.Duration / 2
 	}
-	res := &Result{Backlash: spec.Backlash, ScrewAmp: map[string]float64{}, OutputAmp: map[string]float64{}}
+	res := &Result{Backlash: spec.Backlash}
 	for _, name := range spec.Actuators {
-		g, tilt, err := LinearPart(r, name, spec.Lin)
+		resp, err := Measure(r, name, spec.Seed)
 		if err != nil {
 			return nil, err
 		}
-		pr := Prediction{Actuator: name}
-		if i := slices.IndexFunc(r.Robot.Actuators, func(a models.Actuator) bool { return a.Name == name }); i >= 0 {
-			pr.Rotary = modes.Rotary(r.Robot, &r.Robot.Actuators[i])
-		}
-		pr.CrossoverHz, pr.PhaseDeg = crossover(g, 2*math.Pi*0.05, 2*math.Pi*50)
-		a, w, resid, ok := BacklashCycle(g, spec.Backlash, 2*math.Pi*0.05, 2*math.Pi*20)
-		pr.Residual = resid
-		if ok {
-			pr.Found = true
-			pr.ScrewAmp = a
-			pr.OutputAmp = a * cmplx.Abs(BacklashDF(a, spec.Backlash))
-			pr.TiltAmp = pr.OutputAmp * cmplx.Abs(tilt(w)) * 180 / math.Pi
-			pr.FrequencyHz = w / (2 * math.Pi)
-		}
-		res.Predictions = append(res.Predictions, pr)
-	}
-	sr := &rig.Rig{Robot: r.Robot.Clone(), Spec: r.Spec, Gains: r.Gains}
-	for _, name := range spec.Actuators {
-		if err := models.SetParam(sr.Robot, "actuators."+name+".backlash", spec.Backlash); err != nil {
+		s, err := Simulate(r, name, spec)
+		if err != nil {
 			return nil, err
 		}
+		l := Loop{Prediction: resp.Predict(spec.Backlash), Sim: *s}
+		if s.rattles(spec.Backlash) {
+			l.Prediction = Prediction{Actuator: name, Rotary: resp.Rotary, Why: Rattles, StaticLoad: resp.StaticLoad}
+		}
+		res.Loops = append(res.Loops, l)
 	}
-	o, err := sr.Run(spec.Duration, sim.Options{Seed: spec.Seed})
+	all, err := simulate(r, spec.Actuators, spec)
 	if err != nil {
 		return nil, err
 	}
-	res.Fell = o.Summary.Fell
-	// A slow hunt needs a longer look than the osc_ metrics' window.
-	t := o.Rec.Column("time")
-	i := sort.SearchFloat64s(t, t[len(t)-1]-spec.Window)
-	if len(t)-i >= 16 {
-		dt := (t[len(t)-1] - t[i]) / float64(len(t)-1-i)
-		a, f := metric.SpectralPeak(o.Rec.Column("torso_tilt")[i:], dt)
-		res.TiltAmp, res.FrequencyHz = a*180/math.Pi, f
-		for _, name := range spec.Actuators {
-			res.ScrewAmp[name], _ = metric.SpectralPeak(o.Rec.Column(name + ".screw")[i:], dt)
-			res.OutputAmp[name], _ = metric.SpectralPeak(o.Rec.Column(name + ".output")[i:], dt)
-		}
-	}
+	res.All = *all
 	return res, nil
 }
 
-// crossover finds where |g| falls through 1 on a log scan of wlo..whi,
-// in Hz, with the phase of g there in degrees; NaN if it does not.
-func crossover(g func(w float64) complex128, wlo, whi float64) (hz, phase float64) {
-	prev := cmplx.Abs(g(wlo))
-	for i := 1; i <= 400; i++ {
-		w := wlo * math.Pow(whi/wlo, float64(i)/400)
-		v := cmplx.Abs(g(w))
-		if prev >= 1 && v < 1 {
-			return w / (2 * math.Pi), cmplx.Phase(g(w)) * 180 / math.Pi
-		}
-		prev = v
+// rattles reports a cycle in which the joint swings further than its
+// screw and across much of the play: it crosses the play on its own,
+// where backlash's output stays put until the input comes round.
+func (s *Simulated) rattles(width float64) bool {
+	return !s.Fell && s.OutputAmp > s.ScrewAmp && 2*s.OutputAmp > width/2
+}
+
+// Simulate runs the rig with the backlash in one screw, the others without
+// play, shoved at 1 s, and measures the cycle over the window at the end.
+func Simulate(r *rig.Rig, actuator string, spec Spec) (*Simulated, error) {
+	return simulate(r, []string{actuator}, spec)
+}
+
+// simulate is Simulate with the backlash in every listed screw; the screw
+// and output amplitudes are the first one's.
+func simulate(r *rig.Rig, actuators []string, spec Spec) (*Simulated, error) {
+	actuator := actuators[0]
+	robot := r.Robot.Clone()
+	mass := 0.0
+	for _, l := range robot.Links {
+		mass += l.Mass
 	}
-	return math.NaN(), math.NaN()
+	for i := range robot.Actuators {
+		if a := &robot.Actuators[i]; a.Kind == models.LeadScrew && !a.Ballast {
+			a.Backlash = 0
+			if slices.Contains(actuators, a.Name) {
+				a.Backlash = spec.Backlash
+			}
+		}
+	}
+	kick := spec.Kick
+	if kick <= 0 {
+		kick = 0.02 * mass
+	}
+	sr := &rig.Rig{Robot: robot, Spec: r.Spec, Gains: r.Gains}
+	o, err := sr.Run(spec.Duration, sim.Options{Seed: spec.Seed, Shoves: []sim.Shove{{At: 1, Impulse: models.Vec2{X: kick}}}})
+	if err != nil {
+		return nil, err
+	}
+	s := &Simulated{Fell: o.Summary.Fell}
+	t := o.Rec.Column("time")
+	i := sort.SearchFloat64s(t, t[len(t)-1]-spec.Window)
+	if s.Fell || len(t)-i < 16 {
+		return s, nil
+	}
+	dt := (t[len(t)-1] - t[i]) / float64(len(t)-1-i)
+	tilt := o.Rec.Column("torso_tilt")[i:]
+	a, f := metric.SpectralPeak(tilt, dt)
+	s.TiltAmp, s.FrequencyHz = a*180/math.Pi, f
+	// A sine of amplitude a has an RMS of a/sqrt(2); most of the swing's
+	// RMS in that one line makes it the dominant harmonic (common practice).
+	s.Dominant = a/math.Sqrt2 > 0.7*rmsAboutMean(tilt)
+	s.ScrewAmp, _ = metric.SpectralPeak(o.Rec.Column(actuator + ".screw")[i:], dt)
+	s.OutputAmp, _ = metric.SpectralPeak(o.Rec.Column(actuator + ".output")[i:], dt)
+	return s, nil
+}
+
+func rmsAboutMean(y []float64) float64 {
+	mean, ss := 0.0, 0.0
+	for _, v := range y {
+		mean += v
+	}
+	mean /= float64(len(y))
+	for _, v := range y {
+		ss += (v - mean) * (v - mean)
+	}
+	return math.Sqrt(ss / float64(len(y)))
 }
