@@ -111,6 +111,8 @@ func readRobot(w *walker, top *object, r *Robot) {
 	r.Description, _ = top.text("description", false)
 	q := top.num("noise_scale", false, &r.NoiseScale, Dimensionless)
 	w.nonNegative(q)
+	rq := top.num("physics_rate", false, &r.PhysicsRate, Frequency)
+	w.check(rq, r.PhysicsRate > 0 && r.PhysicsRate <= maxRate, "must be above 0 Hz and at most %g kHz", maxRate/1000)
 
 	s := section{
 		links: newNames("link"), joints: newNames("joint"), actuators: newNames("actuator"),
@@ -137,14 +139,23 @@ func readRobot(w *walker, top *object, r *Robot) {
 			if _, ok := w.pos[p+".angle"]; ok {
 				w.add(w.pos[p+".angle"], p+".angle", "only the root link takes an angle; the others follow from the joints")
 			}
+			if l.Fixed {
+				w.add(w.pos[p+".fixed"], p+".fixed", "only the root link can be fixed; the others follow from the joints")
+			}
 		}
 	}
 	if v := top.get("ballast"); v != nil {
 		r.Ballast = readBallast(w, v, &s)
 	}
 	footLinks := map[string]string{}
-	for i, v := range top.list("feet", true) {
-		r.Feet = append(r.Feet, readFoot(w, i, &v, &s, footLinks))
+	rootFixed := r.Link(r.Root) != nil && r.Link(r.Root).Fixed
+	for i, v := range top.list("feet", !rootFixed) {
+		f := readFoot(w, i, &v, &s, footLinks)
+		if rootFixed && f.Link == r.Root {
+			p := join("feet."+f.Name, "link")
+			w.add(w.pos[p], p, "link %q is fixed to the world; its pads would press on nothing", f.Link)
+		}
+		r.Feet = append(r.Feet, f)
 	}
 	for i, v := range top.list("actuators", false) {
 		r.Actuators = append(r.Actuators, readActuator(w, i, &v, &s, r))
@@ -183,6 +194,7 @@ func readLink(w *walker, i int, v *Value, names *nameRef) Link {
 	}
 	o.vec("position", false, &l.Position)
 	o.num("angle", false, &l.Angle, Angle)
+	l.Fixed, _ = o.boolean("fixed")
 	o.done()
 	return l
 }

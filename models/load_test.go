@@ -3,6 +3,7 @@ package models
 import (
 	"bytes"
 	"errors"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -162,4 +163,51 @@ func FuzzParse(f *testing.F) {
 			t.Fatalf("round trip changed the robot\n%s", buf.String())
 		}
 	})
+}
+
+// A fixed root needs no feet, keeps its written pose (nothing lifts it onto
+// the ground) and saves and loads back as written; a fixed link other than
+// the root, pads on a fixed link and a physics rate out of range are
+// problems at the field that says so (the rules in SCHEMA.md).
+func TestFixedRootAndPhysicsRate(t *testing.T) {
+	base, err := os.ReadFile("../testdata/good_stick.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	src := string(base)
+	noFeet := src[:strings.Index(src, "feet:")]
+	fixed := strings.Replace(noFeet, "    mass: 2 kg\n", "    mass: 2 kg\n    position: [0, 1.5]\n    angle: 10 deg\n    fixed: true\n", 1) + "physics_rate: 2 kHz\n"
+	r, err := Parse("fixed.yaml", []byte(fixed))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !r.Links[0].Fixed || r.PhysicsRate != 2000 || len(r.Feet) != 0 {
+		t.Fatalf("fixed %v, physics rate %g, %d feet", r.Links[0].Fixed, r.PhysicsRate, len(r.Feet))
+	}
+	poses, err := r.InitialPoses()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p := poses["base"]; p.Position != (Vec2{0, 1.5}) || math.Abs(p.Angle-10*math.Pi/180) > 1e-15 {
+		t.Errorf("fixed root placed at %+v, want as written", p)
+	}
+	var buf bytes.Buffer
+	if err := Save(&buf, r); err != nil {
+		t.Fatal(err)
+	}
+	back, err := Parse("saved.yaml", buf.Bytes())
+	if err != nil || !back.Links[0].Fixed || back.PhysicsRate != 2000 {
+		t.Errorf("saved and loaded back: %v, %+v", err, back)
+	}
+	for _, tc := range []struct{ name, file, want string }{
+		{"no feet, not fixed", noFeet, "feet: missing required field feet"},
+		{"fixed pole", strings.Replace(src, "    mass: 1.5 kg\n", "    mass: 1.5 kg\n    fixed: true\n", 1), "links.pole.fixed: only the root link can be fixed"},
+		{"pads on the fixed root", strings.Replace(src, "    mass: 2 kg\n", "    mass: 2 kg\n    fixed: true\n", 1), "feet.base.link: link \"base\" is fixed to the world"},
+		{"physics rate", src + "physics_rate: 0 Hz\n", "physics_rate: must be above 0 Hz"},
+	} {
+		_, err := Parse(tc.name, []byte(tc.file))
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: got %v, want a problem with %q", tc.name, err, tc.want)
+		}
+	}
 }

@@ -27,7 +27,8 @@ func (p Pose) Rotate(v Vec2) Vec2 {
 // InitialPoses gives each link's world pose with every joint at its initial
 // position. The root link has its written x and angle; it is lifted or
 // lowered so that the lowest corner of any pad (fully extended) touches
-// y = 0. The ground's tilt and step are not taken into account.
+// y = 0, unless it is fixed to the world. The ground's tilt and step are not
+// taken into account.
 func (r *Robot) InitialPoses() (map[string]Pose, error) {
 	root := r.Link(r.Root)
 	if root == nil {
@@ -80,7 +81,7 @@ func (r *Robot) InitialPoses() (map[string]Pose, error) {
 			}
 		}
 	}
-	if math.IsInf(lowest, 1) {
+	if math.IsInf(lowest, 1) || root.Fixed {
 		return poses, nil
 	}
 	for name, p := range poses {

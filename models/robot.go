@@ -36,6 +36,9 @@ type Robot struct {
 	Battery   *Battery // optional; without one the actuators see their nominal voltage
 	Ground    Ground
 	Fall      FallLimits
+	// PhysicsRate is the physics step rate, Hz; 0 leaves it to whoever
+	// runs the robot (1 kHz unless told).
+	PhysicsRate float64
 	// NoiseScale multiplies the noise of every sensor (1 = as written), so a
 	// study can sweep sensor quality with one number.
 	NoiseScale float64
@@ -80,9 +83,14 @@ type Link struct {
 	// COM is the centre of mass in the link frame; nil means the shape centre.
 	COM *Vec2
 	// Position and Angle place the root link (Position.Y is adjusted so the
-	// robot stands on the ground); ignored for other links.
+	// robot stands on the ground unless the root is fixed); ignored for
+	// other links.
 	Position Vec2
 	Angle    float64
+	// Fixed welds the link to the world at its Position and Angle (the root
+	// only): a pendulum's pivot, a servo bench. A robot with a fixed root
+	// needs no feet.
+	Fixed bool
 }
 
 // JointKind is revolute (a pin) or prismatic (a slide).

@@ -26,6 +26,9 @@ func Save(w io.Writer, r *Robot) error {
 	if r.NoiseScale != 1 {
 		e.num(0, "noise_scale", r.NoiseScale)
 	}
+	if r.PhysicsRate != 0 {
+		e.num(0, "physics_rate", r.PhysicsRate)
+	}
 	writeList(e, "links", r.Links, func(l *Link) { e.link(l, l.Name == r.Root) })
 	writeList(e, "joints", r.Joints, e.joint)
 	writeList(e, "actuators", r.Actuators, e.actuator)
@@ -91,6 +94,9 @@ func (e *emitter) link(l *Link, root bool) {
 	if root {
 		e.vec(4, "position", l.Position)
 		e.num(4, "angle", l.Angle)
+		if l.Fixed {
+			e.line(4, "fixed: true")
+		}
 	}
 }
 
