@@ -17,12 +17,12 @@ func (c constant) Tick(now float64, readings, commands []float64) {
 	}
 }
 
-// slider is a base (to be clamped to the world) with a carriage on a
+// slider is a base fixed to the world with a carriage on a
 // prismatic joint along axis, driven by a lead screw on the joint.
 func slider(carriage float64, axis models.Vec2, kind models.ActuatorKind, backlash, friction, volts float64) *models.Robot {
 	r := &models.Robot{Name: "slider", Root: "base", NoiseScale: 1,
 		Links: []models.Link{
-			{Name: "base", Mass: 5, Shape: models.Shape{Kind: models.Box, Width: 0.3, Height: 0.05}, Position: models.Vec2{Y: 1}},
+			{Name: "base", Mass: 5, Fixed: true, Shape: models.Shape{Kind: models.Box, Width: 0.3, Height: 0.05}, Position: models.Vec2{Y: 1}},
 			{Name: "carriage", Mass: carriage, Shape: models.Shape{Kind: models.Box, Width: 0.05, Height: 0.05}},
 		},
 		Joints: []models.Joint{{Name: "rail", Kind: models.Prismatic, Parent: "base", Child: "carriage", Axis: axis,
@@ -37,13 +37,12 @@ func slider(carriage float64, axis models.Vec2, kind models.ActuatorKind, backla
 	return r
 }
 
-func newClamped(t *testing.T, r *models.Robot, c Controller) *Plant {
+func newPlant(t *testing.T, r *models.Robot, c Controller) *Plant {
 	t.Helper()
 	p, err := New(r, c, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	clamp(p, "base")
 	return p
 }
 
@@ -68,7 +67,7 @@ func TestLeadScrewSpeed(t *testing.T) {
 	// falls linearly with load to zero at stall.
 	horizontal := models.Vec2{X: 1}
 	for _, volts := range []float64{12, 6} {
-		p := newClamped(t, slider(0.5, horizontal, models.LeadScrew, 0, 0, volts), constant(1))
+		p := newPlant(t, slider(0.5, horizontal, models.LeadScrew, 0, 0, volts), constant(1))
 		screw, output := screwSpeed(t, p)
 		want := 0.02 * volts / 12
 		if math.Abs(screw/want-1) > 0.01 || math.Abs(output/want-1) > 0.01 {
@@ -77,7 +76,7 @@ func TestLeadScrewSpeed(t *testing.T) {
 	}
 	// Lifting a weight of half the stall force: half the no-load speed.
 	m := 200 / Gravity
-	p := newClamped(t, slider(m, models.Vec2{Y: 1}, models.LeadScrew, 0, 0, 0), constant(1))
+	p := newPlant(t, slider(m, models.Vec2{Y: 1}, models.LeadScrew, 0, 0, 0), constant(1))
 	screw, _ := screwSpeed(t, p)
 	if want := 0.01; math.Abs(screw/want-1) > 0.02 {
 		t.Errorf("lifting 200 N: %.5f m/s, want %.5f m/s", screw, want)
@@ -92,7 +91,7 @@ func TestLeadScrewHoldsUnpowered(t *testing.T) {
 	// lead screw is not backdrivable, so it stays put; a torque motor
 	// without power lets it fall (the comparison shows the test can fail).
 	for _, kind := range []models.ActuatorKind{models.LeadScrew, models.TorqueMotor} {
-		p := newClamped(t, slider(50, models.Vec2{Y: 1}, kind, 0, 0, 0), nil)
+		p := newPlant(t, slider(50, models.Vec2{Y: 1}, kind, 0, 0, 0), nil)
 		a := &p.acts[0]
 		s0, o0 := a.screw, a.output()
 		if err := p.RunFor(0.1); err != nil {
@@ -113,7 +112,7 @@ func TestLeadScrewHoldsUnpowered(t *testing.T) {
 func TestBacklash(t *testing.T) {
 	const b = 0.002
 	// Friction on the rail holds the carriage wherever the screw leaves it.
-	p := newClamped(t, slider(0.5, models.Vec2{X: 1}, models.LeadScrew, b, 2, 0), nil)
+	p := newPlant(t, slider(0.5, models.Vec2{X: 1}, models.LeadScrew, b, 2, 0), nil)
 	a := &p.acts[0]
 	s0 := a.screw
 	// Push the carriage: it swings freely through the play and stops at
@@ -171,7 +170,7 @@ func TestMountStiffness(t *testing.T) {
 	const m, k = 20.0, 1e5
 	r := slider(m, models.Vec2{Y: 1}, models.LeadScrew, 0, 0, 0)
 	r.Actuators[0].MountStiffness = k
-	p := newClamped(t, r, nil)
+	p := newPlant(t, r, nil)
 	a := &p.acts[0]
 	var sum float64
 	var ups []float64
@@ -209,7 +208,7 @@ func TestBattery(t *testing.T) {
 	r := slider(lift/Gravity, models.Vec2{Y: 1}, models.LeadScrew, 0, 0, 12)
 	r.Battery.InternalResistance = 0.5
 	r.Battery.Capacity = 2 // C: drained visibly within a second
-	p := newClamped(t, r, constant(1))
+	p := newPlant(t, r, constant(1))
 	if err := p.RunFor(0.5); err != nil {
 		t.Fatal(err)
 	}

@@ -17,7 +17,7 @@ func bareSpace(p *Plant) *cp.Space {
 	s := cp.NewSpace()
 	s.SetGravity(cp.Vector{Y: -Gravity})
 	s.Iterations = p.space.Iterations
-	s.SetCollisionSlop(contactSlop)
+	s.SetCollisionSlop(1e-4)
 	bodies := map[*cp.Body]*cp.Body{}
 	for _, b := range p.bodies {
 		nb := s.AddBody(cp.NewBody(b.Mass(), b.Moment()))
@@ -72,7 +72,7 @@ func bareSpace(p *Plant) *cp.Space {
 		c := pd.rest
 		verts := []cp.Vector{{X: c.X - w, Y: c.Y - h}, {X: c.X + w, Y: c.Y - h}, {X: c.X + w, Y: c.Y + h}, {X: c.X - w, Y: c.Y + h}}
 		sh := cp.NewPolyShapeRaw(foot, 4, verts, 0)
-		sh.SetFriction(pd.contact.friction)
+		sh.SetFriction(pd.edges[0].friction)
 		sh.SetFilter(cp.NewShapeFilter(1, cp.ALL_CATEGORIES, cp.ALL_CATEGORIES))
 		s.AddShape(sh)
 	}

@@ -15,10 +15,12 @@ const Gravity = 9.80665
 // mass (cp takes the centre of gravity from the body's origin), so link-frame
 // points are offset by com.
 type link struct {
-	name  string
-	body  *cp.Body
-	com   models.Vec2 // centre of mass in the link frame
-	shape models.Shape
+	name    string
+	body    *cp.Body
+	com     models.Vec2 // centre of mass in the link frame
+	mass    float64     // pads included; a fixed link's body has infinite mass
+	inertia float64     // about the centre of mass, pads included
+	shape   models.Shape
 }
 
 // local converts a link-frame point to the body's local frame.
@@ -33,8 +35,9 @@ type joint struct {
 	parent, child *link
 	pAnchor       cp.Vector // body-local anchors
 	cAnchor       cp.Vector
-	axis          cp.Vector // prismatic: slide direction in the parent frame
-	lower, upper  float64   // prismatic: the slide's ends
+	axis          cp.Vector   // prismatic: slide direction in the parent frame
+	lower, upper  float64     // prismatic: the slide's ends
+	limit         *screwLimit // the joint's limits, if it has them
 }
 
 // position is the joint coordinate: the child's angle relative to the
@@ -48,23 +51,26 @@ func (j *joint) position() float64 {
 	return d.Dot(pb.Rotation().Rotate(j.axis))
 }
 
-// pad is a compliant pad under a foot (see padContact).
+// pad is a compliant pad under a foot, touching the ground at the two
+// ends of its width (see padContact).
 type pad struct {
 	name             string
 	foot             *link
 	rest             cp.Vector // pad centre fully extended, in the foot's body frame
 	width, thickness float64
 	travel           float64
-	contact          *padContact
-	// Results of the last step.
-	compression, force float64
+	edges            [2]*padContact // the -x and +x ends of the width
+	// Results of the last step: the compression at the pad's centre (the
+	// mean of its edges', past the travel when the stop is pressed), the
+	// normal force and the end stop's share of it.
+	compression, force, stop float64
 }
 
 // centre is the pad's centre, world: pushed into the foot by its
-// compression.
+// compression, at most the travel.
 func (p *pad) centre() cp.Vector {
 	fb := p.foot.body
-	return fb.LocalToWorld(p.rest).Add(fb.Rotation().Perp().Mult(p.compression))
+	return fb.LocalToWorld(p.rest).Add(fb.Rotation().Perp().Mult(math.Min(p.compression, p.travel)))
 }
 
 type ballast struct {
@@ -85,20 +91,11 @@ func (b *ballast) position() float64 {
 	return b.body.Position().Sub(lb.LocalToWorld(b.origin)).Dot(lb.Rotation().Rotate(b.axis))
 }
 
-// jointCorrection is the per-step fraction of position error removed by
-// the bias of the joint limits, expressed per second as cp wants. cp's
-// default is about 0.6 % per step at 1 kHz. The joints themselves and the
-// screws have no bias: their error is removed by moving the bodies (see
-// project.go).
-const jointCorrection = 0.01
-
-func errorBias(fraction, rate float64) float64 { return math.Pow(1-fraction, rate) }
-
 // initialPoses places every link with the joints at their initial
 // positions (models.InitialPoses, which rests the lowest pad on y = 0), then
 // moves the robot up or down so that the lowest pad corner just touches this
-// ground, which may be tilted or stepped. A robot without pads stays where
-// its root was written.
+// ground, which may be tilted or stepped. A robot without pads or with a
+// fixed root stays where its root was written.
 func initialPoses(r *models.Robot, g *ground) (map[string]models.Pose, error) {
 	poses, err := r.InitialPoses()
 	if err != nil {
@@ -114,7 +111,7 @@ func initialPoses(r *models.Robot, g *ground) (map[string]models.Pose, error) {
 			}
 		}
 	}
-	if !math.IsInf(lowest, 1) {
+	if root := r.Link(r.Root); !math.IsInf(lowest, 1) && !root.Fixed {
 		for name, p := range poses {
 			p.Position.Y -= lowest
 			poses[name] = p

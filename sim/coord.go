@@ -47,6 +47,30 @@ func (c *coord) measure() float64 {
 	return dist
 }
 
+// at is q with the bodies at (pa, aa) and (pb, ab).
+func (c *coord) at(pa cp.Vector, aa float64, pb cp.Vector, ab float64) float64 {
+	if c.geometry == limitAngle {
+		return ab - aa
+	}
+	ra := cp.ForAngle(aa)
+	d := pb.Add(cp.ForAngle(ab).Rotate(c.anchorB)).Sub(pa.Add(ra.Rotate(c.anchorA)))
+	if c.geometry == limitAxis {
+		return d.Dot(ra.Rotate(c.axis))
+	}
+	return d.Length()
+}
+
+// drift is how far the coming position update moves q beyond its rate
+// times dt: the second-order part of turning anchors along chords (see
+// pivot.go), which a constraint on the rate alone lets accumulate and
+// whose removal takes kinetic energy. Call after measure.
+func (c *coord) drift(q, dt float64) float64 {
+	a, b := c.a, c.b
+	next := c.at(a.Position().Add(a.Velocity().Mult(dt)), a.Angle()+a.AngularVelocity()*dt,
+		b.Position().Add(b.Velocity().Mult(dt)), b.Angle()+b.AngularVelocity()*dt)
+	return next - q - c.velocity()*dt
+}
+
 // invMass is the inverse effective mass along q.
 func (c *coord) invMass() float64 {
 	a, b := c.a, c.b

@@ -1,6 +1,8 @@
 package sim
 
 import (
+	"math"
+
 	"github.com/jakecoffman/cp/v2"
 
 	"teeter/models"
@@ -18,19 +20,30 @@ const (
 	// treated as a (speculative) contact, so a falling pad does not sink in
 	// by a whole step's travel.
 	contactMargin = 5e-3
-	// contactSlop is the penetration left uncorrected, to avoid jitter.
-	contactSlop = 1e-4
-	// contactBias is the fraction of the penetration beyond the slop
-	// removed per step.
-	contactBias = 0.2
+	// stopStiffness is the end stop's stiffness over the edge's spring
+	// stiffness: stiff enough to be a stop (100 kg on four edges of 5e4
+	// N/m pads presses it 50 um), and a stop of finite stiffness shares
+	// its load between the edges of a rigid foot by how far each is
+	// pressed; a rigid stop under a rigid foot on three or more edges is
+	// statically indeterminate, and the solver left identical pads under
+	// one block carrying 156, 80 and 156 N.
+	stopStiffness = 100
 )
 
-// padContact is a pad pressing its foot against the ground. The pad is
-// massless and part of its foot (its mass is added to the foot's): a point
-// contact at its bottom centre through a spring and damper in parallel,
-// then a hard end stop once the free travel is used up, with Coulomb
-// friction of the pad's own coefficient. The compression is how far the
-// fully extended pad's bottom would be below the ground.
+// padContact is one edge of a pad pressing its foot against the ground.
+// A pad is two of them, at the bottom corners of its width, so that it
+// rolls onto an edge and its centre of pressure moves across the width up
+// to the outer edge before the foot tips. Each edge carries half the pad's
+// spring and damper (flat on the ground the pair is the pad: stiffness k,
+// damping c, and the tilting stiffness k w^2/4 of a spring spread across
+// the width's ends), an end stop of its own once the free travel is used
+// up (stopStiffness times its spring, critically damped, solved implicitly:
+// stable at any stiffness, and it takes an impact's approach speed), and
+// Coulomb friction of the pad's coefficient on its own normal
+// force (the pair's friction bound is the coefficient times the pad's
+// load). The pad is massless and part of its foot (its mass is added to
+// the foot's). The depth is how far the fully extended edge would be
+// below the ground.
 //
 // Why not a pad body on a groove: a light pad under a heavy robot is a
 // mass ratio of a thousand across the groove, which Gauss-Seidel does not
@@ -38,25 +51,31 @@ const (
 // without bound with 10 g pads under 10 kg). The spring is applied
 // explicitly, as cp's damped spring does, which is stable here because it
 // acts on the foot's mass and free of the numerical damping an implicit
-// spring would add; the damper is implicit.
+// spring would add; the damper is implicit. The end stop is a spring, not
+// a position correction: a velocity bias pushing the edge back out of a
+// rigid stop added energy at every hard landing.
 type padContact struct {
 	*cp.Constraint
 	foot                     *cp.Body
 	ground                   *ground
-	bottom                   cp.Vector // body-local: the pad's bottom centre fully extended
+	bottom                   cp.Vector // body-local: the edge's bottom corner fully extended
 	stiffness, damping       float64
 	travel, friction         float64
-	depth                    float64 // of the extended bottom below the ground, last step
+	depth                    float64 // of the extended edge below the ground, last step
 	active, touching, atStop bool
 	r, n                     cp.Vector
 	knn, knt, ktt            float64 // inverse effective mass matrix in (n, t)
 	nMass, tMass, dampMass   float64
 	dampGamma, stopBias      float64
+	stopSoft                 bool // past the stop: a spring, else closing the gap
+	stopGamma, stopMass      float64
 	js, jd, jh, jt           float64 // spring, damper, stop and friction impulses
 }
 
-func newPadContact(foot, static *cp.Body, g *ground, bottom cp.Vector, m *models.Pad) *padContact {
-	c := &padContact{foot: foot, ground: g, bottom: bottom, stiffness: m.Stiffness, damping: m.Damping,
+// newPadContact is the edge at bottom of pad m, carrying share of its
+// spring and damper.
+func newPadContact(foot, static *cp.Body, g *ground, bottom cp.Vector, m *models.Pad, share float64) *padContact {
+	c := &padContact{foot: foot, ground: g, bottom: bottom, stiffness: share * m.Stiffness, damping: share * m.Damping,
 		travel: m.Travel, friction: m.Friction}
 	c.Constraint = cp.NewConstraint(c, foot, static)
 	return c
@@ -96,13 +115,17 @@ func (c *padContact) PreStep(dt float64) {
 		c.jd = 0
 	}
 	if c.atStop {
-		switch {
-		case gap >= 0:
+		c.stopSoft = gap < 0
+		if !c.stopSoft {
 			c.stopBias = -gap / dt // may approach the stop by the gap, no faster
-		case gap < -contactSlop:
-			c.stopBias = -contactBias * (gap + contactSlop) / dt
-		default:
-			c.stopBias = 0
+		} else {
+			// Implicit Euler of f = -ks gap - cs gap' along n (Catto, "Soft
+			// constraints", GDC 2011), one-sided.
+			ks := stopStiffness * c.stiffness
+			d := 2*math.Sqrt(ks*c.nMass) + dt*ks
+			c.stopGamma = 1 / (dt * d)
+			c.stopBias = gap * ks / d
+			c.stopMass = 1 / (kn + c.stopGamma)
 		}
 	} else {
 		c.jh = 0
@@ -150,7 +173,11 @@ func (c *padContact) ApplyImpulse(dt float64) {
 	}
 	if c.atStop {
 		old := c.jh
-		c.jh = old + (c.stopBias-vn)*c.nMass
+		if c.stopSoft {
+			c.jh = old - c.stopMass*(vn+c.stopBias+c.stopGamma*old)
+		} else {
+			c.jh = old + (c.stopBias-vn)*c.nMass
+		}
 		if c.jh < 0 {
 			c.jh = 0
 		}
@@ -171,3 +198,6 @@ func (c *padContact) GetImpulse() float64 { return c.js + c.jd + c.jh }
 
 // point is the contact point, world.
 func (c *padContact) point() cp.Vector { return c.foot.LocalToWorld(c.bottom) }
+
+// stopImpulse is the end stop's share of the normal impulse of the last step.
+func (c *padContact) stopImpulse() float64 { return c.jh }

@@ -7,13 +7,13 @@ import (
 	"teeter/models"
 )
 
-// arm is a base (to be clamped) with an arm on a revolute joint at the
+// arm is a base fixed to the world with an arm on a revolute joint at the
 // base's centre; the arm's link frame is at the pivot.
 func arm(shape models.Shape, mass float64, j models.Joint) *models.Robot {
 	j.Name, j.Kind, j.Parent, j.Child = "pivot", models.Revolute, "base", "arm"
 	return &models.Robot{Name: "arm", Root: "base", NoiseScale: 1,
 		Links: []models.Link{
-			{Name: "base", Mass: 5, Shape: models.Shape{Kind: models.Box, Width: 0.2, Height: 0.05}, Position: models.Vec2{Y: 2}},
+			{Name: "base", Mass: 5, Fixed: true, Shape: models.Shape{Kind: models.Box, Width: 0.2, Height: 0.05}, Position: models.Vec2{Y: 2}},
 			{Name: "arm", Mass: mass, Shape: shape},
 		},
 		Joints: []models.Joint{j}}
@@ -28,7 +28,7 @@ func TestTorqueMotorHoldsPendulumOut(t *testing.T) {
 	r := arm(models.Shape{Kind: models.Circle, Radius: 0.01, Center: models.Vec2{Y: -l}}, m, models.Joint{Damping: 0.5})
 	r.Actuators = []models.Actuator{{Name: "motor", Kind: models.TorqueMotor, Joint: "pivot", NominalVoltage: 12, StallForce: stall}}
 	for _, u := range []float64{0.3, -0.6} {
-		p := newClamped(t, r, constant(u))
+		p := newPlant(t, r, constant(u))
 		if err := p.RunFor(15); err != nil {
 			t.Fatal(err)
 		}
@@ -48,10 +48,10 @@ func TestFixedBallastShiftsCentreOfMass(t *testing.T) {
 	// of mass is the mass-weighted mean of the parts' centres (definition
 	// of the centre of mass).
 	r := &models.Robot{Name: "ballasted", Root: "base", NoiseScale: 1,
-		Links: []models.Link{{Name: "base", Mass: 5, Shape: models.Shape{Kind: models.Box, Width: 0.2, Height: 0.05}, Position: models.Vec2{Y: 1}}},
+		Links: []models.Link{{Name: "base", Mass: 5, Fixed: true, Shape: models.Shape{Kind: models.Box, Width: 0.2, Height: 0.05}, Position: models.Vec2{Y: 1}}},
 		Ballast: &models.Ballast{Name: "weight", Link: "base", Mass: 1, Origin: models.Vec2{Y: 0.1}, Axis: models.Vec2{X: 1},
 			Position: 0.05, Min: -0.1, Max: 0.1, Size: 0.03}}
-	p := newClamped(t, r, nil)
+	p := newPlant(t, r, nil)
 	if err := p.RunFor(1); err != nil {
 		t.Fatal(err)
 	}
@@ -71,7 +71,7 @@ func TestPrismaticJointFriction(t *testing.T) {
 	// (F - 5 N)/m (Coulomb friction, any physics textbook).
 	const m, friction, stall = 5.0, 5.0, 400.0
 	for _, force := range []float64{4, 8} {
-		p := newClamped(t, slider(m, models.Vec2{X: 1}, models.TorqueMotor, 0, friction, 0), constant(force/stall))
+		p := newPlant(t, slider(m, models.Vec2{X: 1}, models.TorqueMotor, 0, friction, 0), constant(force/stall))
 		x0 := p.joints[0].position()
 		const d = 0.5
 		if err := p.RunFor(d); err != nil {
@@ -97,7 +97,7 @@ func TestJointSpringPeriod(t *testing.T) {
 	// textbook). Its centre is on the pivot, so gravity adds no torque.
 	const m, rad, k = 2.0, 0.1, 0.5
 	r := arm(models.Shape{Kind: models.Circle, Radius: rad}, m, models.Joint{Stiffness: k})
-	p := newClamped(t, r, nil)
+	p := newPlant(t, r, nil)
 	p.link("arm").body.SetAngle(0.2)
 	got := period(t, p, "arm", 4)
 	want := 2 * math.Pi * math.Sqrt(m*rad*rad/2/k)
@@ -116,7 +116,7 @@ func TestIMUUnderAcceleration(t *testing.T) {
 	r := slider(m, models.Vec2{X: 1}, models.TorqueMotor, 0, 0, 0)
 	r.NoiseScale = 0
 	r.Sensors = []models.Sensor{{Name: "imu", Kind: models.IMU, Link: "carriage", Rate: 1000}}
-	p := newClamped(t, r, constant(m*a/stall))
+	p := newPlant(t, r, constant(m*a/stall))
 	if err := p.RunFor(0.1); err != nil {
 		t.Fatal(err)
 	}
@@ -135,7 +135,7 @@ func TestSetBacklashWhileRunning(t *testing.T) {
 	// from the screw (the definition of backlash: free play b centred on
 	// the screw).
 	const b = 0.002
-	p := newClamped(t, slider(0.5, models.Vec2{X: 1}, models.LeadScrew, 0, 2, 0), nil)
+	p := newPlant(t, slider(0.5, models.Vec2{X: 1}, models.LeadScrew, 0, 2, 0), nil)
 	a := &p.acts[0]
 	push := func() float64 {
 		if err := p.Shove(Shove{Link: "carriage", Impulse: models.Vec2{X: 0.05}}); err != nil {
@@ -167,9 +167,7 @@ func TestHeldShoveImpulse(t *testing.T) {
 	// alone acts besides: only x is compared.
 	const m, j = 2.0, 0.6
 	for _, hold := range []float64{0, 0.05} {
-		r := pendulum(models.Shape{Kind: models.Box, Width: 0.1, Height: 0.1}, m, 0)
-		r.Links[0].Position.Y = 100
-		p, err := New(r, nil, Options{Shoves: []Shove{{At: 0.01, Impulse: models.Vec2{X: j}, Hold: hold}}})
+		p, err := New(stone(m, 100), nil, Options{Shoves: []Shove{{At: 0.01, Impulse: models.Vec2{X: j}, Hold: hold}}})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -198,9 +196,7 @@ func TestScheduleReplacesTheShovesToCome(t *testing.T) {
 	// impulse (impulse-momentum theorem, any physics textbook), so the
 	// momentum counts the shoves given.
 	const m = 2.0
-	r := pendulum(models.Shape{Kind: models.Box, Width: 0.1, Height: 0.1}, m, 0)
-	r.Links[0].Position.Y = 100
-	p, err := New(r, nil, Options{Shoves: []Shove{{At: 0.1, Impulse: models.Vec2{X: 1}}, {At: 0.5, Impulse: models.Vec2{X: 2}}}})
+	p, err := New(stone(m, 100), nil, Options{Shoves: []Shove{{At: 0.1, Impulse: models.Vec2{X: 1}}, {At: 0.5, Impulse: models.Vec2{X: 2}}}})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -4,30 +4,23 @@ import (
 	"math"
 	"testing"
 
-	"github.com/jakecoffman/cp/v2"
-
 	"teeter/models"
 )
 
-// pin fixes a link's point (link frame) to the world, free to turn.
-func pin(p *Plant, linkName string, at models.Vec2) {
-	l := p.link(linkName)
-	w := l.world(at)
-	p.space.AddConstraint(cp.NewPivotJoint2(p.space.StaticBody, l.body, w, l.local(at)))
-}
-
-// clamp fixes a link to the world rigidly.
-func clamp(p *Plant, linkName string) {
-	l := p.link(linkName)
-	pin(p, linkName, models.Vec2{})
-	p.space.AddConstraint(cp.NewGearJoint(p.space.StaticBody, l.body, l.body.Angle(), 1))
-}
-
-// pendulum is a single link hanging from its frame origin at (0, 2),
-// swung out by angle.
+// pendulum is a link hanging by its frame origin from a base fixed to the
+// world at (0, 2), swung out by angle.
 func pendulum(shape models.Shape, mass, angle float64) *models.Robot {
-	return &models.Robot{Name: "pendulum", Root: "bob", NoiseScale: 1,
-		Links: []models.Link{{Name: "bob", Mass: mass, Shape: shape, Position: models.Vec2{Y: 2}, Angle: angle}}}
+	return &models.Robot{Name: "pendulum", Root: "base", NoiseScale: 1,
+		Links: []models.Link{
+			{Name: "base", Mass: 1, Fixed: true, Shape: models.Shape{Kind: models.Box, Width: 0.05, Height: 0.05}, Position: models.Vec2{Y: 2}},
+			{Name: "bob", Mass: mass, Shape: shape}},
+		Joints: []models.Joint{{Name: "pivot", Kind: models.Revolute, Parent: "base", Child: "bob", Initial: angle}}}
+}
+
+// stone is a free 100 mm box of mass m at height y.
+func stone(m, y float64) *models.Robot {
+	return &models.Robot{Name: "stone", Root: "bob", NoiseScale: 1,
+		Links: []models.Link{{Name: "bob", Mass: m, Shape: models.Shape{Kind: models.Box, Width: 0.1, Height: 0.1}, Position: models.Vec2{Y: y}}}}
 }
 
 // period measures the mean time between upward zero crossings of the
@@ -71,7 +64,6 @@ func TestPendulumPointBob(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		pin(p, "bob", models.Vec2{})
 		got := period(t, p, "bob", 5)
 		// Small-angle period T0 = 2 pi sqrt(L/g) (any physics textbook).
 		want := 2 * math.Pi * math.Sqrt(L/Gravity) * largeAmplitude(theta)
@@ -89,7 +81,6 @@ func TestPendulumRod(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	pin(p, "bob", models.Vec2{})
 	got := period(t, p, "bob", 5)
 	// Physical pendulum T = 2 pi sqrt(I/(m g d)), rod about its end
 	// I = m L^2/3, d = L/2 (any physics textbook); the 10 mm width adds
@@ -102,9 +93,7 @@ func TestPendulumRod(t *testing.T) {
 }
 
 func TestFreeFall(t *testing.T) {
-	r := pendulum(models.Shape{Kind: models.Box, Width: 0.1, Height: 0.1}, 1, 0)
-	r.Links[0].Position.Y = 10
-	p, err := New(r, nil, Options{})
+	p, err := New(stone(1, 10), nil, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -129,7 +118,6 @@ func TestInvertedPendulumDivergence(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	pin(p, "bob", models.Vec2{})
 	b := p.link("bob").body
 	// Least-squares slope of ln(theta) against t while theta grows from
 	// 2e-3 to 3e-2 rad: late enough that cosh is exp/2 within 0.1 %,

@@ -177,7 +177,15 @@ func check(r *models.Robot) error {
 			return fmt.Errorf("link %q: moment of inertia %g kg*m^2 must be positive (give an inertia or a shape with area)", l.Name, i)
 		}
 	}
+	for _, l := range r.Links {
+		if l.Fixed && l.Name != r.Root {
+			return fmt.Errorf("link %q: only the root link can be fixed", l.Name)
+		}
+	}
 	for _, f := range r.Feet {
+		if l := r.Link(f.Link); l != nil && l.Fixed {
+			return fmt.Errorf("foot %q: link %q is fixed to the world", f.Name, f.Link)
+		}
 		for _, p := range f.Pads {
 			if p.Mass < 0 || !(p.Stiffness > 0) || !(p.Width > 0) || !(p.Thickness > 0) || p.Travel < 0 || p.Damping < 0 || p.Friction < 0 {
 				return fmt.Errorf("pad %q: stiffness, width and thickness must be positive, mass, damping, friction and travel not negative", p.Name)
@@ -218,16 +226,13 @@ func (p *Plant) addBody(name string, m, i float64, pos cp.Vector, angle float64)
 	return b
 }
 
-// noBias turns off a constraint's position correction: the plant moves
-// the bodies itself (project).
-func noBias(c *cp.Constraint) *cp.Constraint {
-	c.SetErrorBias(1)
-	return c
-}
-
-func (p *Plant) addConstraint(c *cp.Constraint, correction float64) *cp.Constraint {
-	c.SetErrorBias(errorBias(correction, p.physRate))
-	return p.space.AddConstraint(c)
+// addFixed makes a link welded to the world: a static body, which the
+// engine never moves, left out of the bodies the plant checks and saves.
+func (p *Plant) addFixed(pos cp.Vector, angle float64) *cp.Body {
+	b := p.space.AddBody(cp.NewStaticBody())
+	b.SetPosition(pos)
+	b.SetAngle(angle)
+	return b
 }
 
 // build creates the space, bodies and constraints.
@@ -253,8 +258,12 @@ func (p *Plant) build() error {
 		mass, inertia, com := linkMass(r, ml)
 		w := pose.Apply(com)
 		l := &p.links[i]
-		*l = link{name: ml.Name, com: com, shape: ml.Shape}
-		l.body = p.addBody(ml.Name, mass, inertia, cp.Vector{X: w.X, Y: w.Y}, pose.Angle)
+		*l = link{name: ml.Name, com: com, mass: mass, inertia: inertia, shape: ml.Shape}
+		if ml.Fixed {
+			l.body = p.addFixed(cp.Vector{X: w.X, Y: w.Y}, pose.Angle)
+		} else {
+			l.body = p.addBody(ml.Name, mass, inertia, cp.Vector{X: w.X, Y: w.Y}, pose.Angle)
+		}
 		pts, rad := shapeCorners(ml.Shape)
 		p.corners = append(p.corners, pts)
 		p.radii = append(p.radii, rad)
@@ -335,9 +344,10 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 	a, b := par.body, ch.body
 	switch mj.Kind {
 	case models.Revolute:
-		p.space.AddConstraint(noBias(cp.NewPivotJoint2(a, b, j.pAnchor, j.cAnchor)))
+		p.space.AddConstraint(newPivot(a, b, j.pAnchor, j.cAnchor).Constraint)
 		if mj.HasLimits {
-			p.addConstraint(cp.NewRotaryLimitJoint(a, b, mj.Lower, mj.Upper), jointCorrection)
+			j.limit = newJointLimit(coord{geometry: limitAngle, a: a, b: b}, mj.Lower, mj.Upper)
+			p.space.AddConstraint(j.limit.Constraint)
 		}
 		if mj.Stiffness > 0 || mj.Damping > 0 {
 			c := coord{geometry: limitAngle, a: a, b: b}
@@ -348,7 +358,7 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 			// Coulomb friction (as in cp's tank demo).
 			m := cp.NewSimpleMotor(a, b, 0)
 			m.SetMaxForce(mj.Friction)
-			p.addConstraint(m, jointCorrection)
+			p.space.AddConstraint(m)
 		}
 	case models.Prismatic:
 		n := math.Hypot(mj.Axis.X, mj.Axis.Y)
@@ -356,20 +366,20 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 			return errors.New("prismatic joint needs an axis")
 		}
 		j.axis = cp.Vector{X: mj.Axis.X / n, Y: mj.Axis.Y / n}
-		lo, hi := -10.0, 10.0
+		j.lower, j.upper = math.Inf(-1), math.Inf(1)
+		p.space.AddConstraint(newSlide(a, b, j.pAnchor, j.cAnchor, j.axis).Constraint)
 		if mj.HasLimits {
-			lo, hi = mj.Lower, mj.Upper
+			j.lower, j.upper = mj.Lower, mj.Upper
+			c := coord{geometry: limitAxis, a: a, b: b, anchorA: j.pAnchor, anchorB: j.cAnchor, axis: j.axis}
+			j.limit = newJointLimit(c, mj.Lower, mj.Upper)
+			p.space.AddConstraint(j.limit.Constraint)
 		}
-		// The groove's ends are the joint limits.
-		j.lower, j.upper = lo, hi
-		p.space.AddConstraint(noBias(cp.NewGrooveJoint(a, b, j.pAnchor.Add(j.axis.Mult(lo)), j.pAnchor.Add(j.axis.Mult(hi)), j.cAnchor)))
-		p.space.AddConstraint(noBias(cp.NewGearJoint(a, b, 0, 1)))
 		if mj.Stiffness > 0 || mj.Damping > 0 {
 			c := coord{geometry: limitAxis, a: a, b: b, anchorA: j.pAnchor, anchorB: j.cAnchor, axis: j.axis}
 			p.space.AddConstraint(newSoftSpring(c, mj.Initial, mj.Stiffness, mj.Damping).Constraint)
 		}
 		if mj.Friction > 0 {
-			p.addConstraint(newSlideFriction(a, b, j.pAnchor, j.cAnchor, j.axis, mj.Friction).Constraint, jointCorrection)
+			p.space.AddConstraint(newSlideFriction(a, b, j.pAnchor, j.cAnchor, j.axis, mj.Friction).Constraint)
 		}
 	default:
 		return fmt.Errorf("unknown kind %q", mj.Kind)
@@ -378,10 +388,12 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 }
 
 func (p *Plant) buildPad(foot *link, mp *models.Pad) {
-	bottom := foot.local(models.Vec2{X: mp.Position.X, Y: mp.Position.Y - mp.Thickness/2})
 	pd := pad{name: mp.Name, foot: foot, rest: foot.local(mp.Position), width: mp.Width, thickness: mp.Thickness, travel: mp.Travel}
-	pd.contact = newPadContact(foot.body, p.space.StaticBody, &p.ground, bottom, mp)
-	p.space.AddConstraint(pd.contact.Constraint)
+	for i, sx := range [2]float64{-1, 1} {
+		bottom := foot.local(models.Vec2{X: mp.Position.X + sx*mp.Width/2, Y: mp.Position.Y - mp.Thickness/2})
+		pd.edges[i] = newPadContact(foot.body, p.space.StaticBody, &p.ground, bottom, mp, 0.5)
+		p.space.AddConstraint(pd.edges[i].Constraint)
+	}
 	p.pads = append(p.pads, pd)
 }
 
@@ -438,8 +450,9 @@ func (p *Plant) buildBallast(mb *models.Ballast) error {
 	if !(hi > lo) {
 		lo, hi = mb.Position, mb.Position
 	}
-	p.space.AddConstraint(noBias(cp.NewGrooveJoint(l.body, body, origin.Add(axis.Mult(lo)), origin.Add(axis.Mult(hi)), cp.Vector{})))
-	p.space.AddConstraint(noBias(cp.NewGearJoint(l.body, body, 0, 1)))
+	p.space.AddConstraint(newSlide(l.body, body, origin, cp.Vector{}, axis).Constraint)
+	ends := newJointLimit(coord{geometry: limitAxis, a: l.body, b: body, anchorA: origin, axis: axis}, lo, hi)
+	p.space.AddConstraint(ends.Constraint)
 	p.ballast = &ballast{name: mb.Name, link: l, body: body, origin: origin, axis: axis, size: mb.Size, lower: lo, upper: hi}
 	return nil
 }
@@ -560,8 +573,12 @@ func (p *Plant) Step() (err error) {
 	p.battery.update(current, p.dt)
 	for i := range p.pads {
 		pd := &p.pads[i]
-		pd.compression = math.Min(math.Max(pd.contact.depth, 0), pd.travel)
-		pd.force = pd.contact.GetImpulse() / p.dt
+		pd.compression, pd.force, pd.stop = 0, 0, 0
+		for _, c := range pd.edges {
+			pd.compression += math.Max(c.depth, 0) / 2
+			pd.force += c.GetImpulse() / p.dt
+			pd.stop += c.stopImpulse() / p.dt
+		}
 	}
 	for i := range p.sensors {
 		p.sensors[i].afterStep(p.dt)
@@ -670,13 +687,19 @@ func (p *Plant) setFall(reason, link string) {
 	p.err = fmt.Errorf("%w at %.3f s: %s", ErrFallen, p.fall.Time, reason)
 }
 
-// centreOfMass is the whole robot's centre of mass, world.
+// centreOfMass is the whole robot's centre of mass, world, a fixed link
+// included.
 func (p *Plant) centreOfMass() cp.Vector {
 	var s cp.Vector
 	m := 0.0
-	for _, b := range p.bodies {
-		s = s.Add(b.Position().Mult(b.Mass()))
-		m += b.Mass()
+	for i := range p.links {
+		l := &p.links[i]
+		s = s.Add(l.body.Position().Mult(l.mass))
+		m += l.mass
+	}
+	if b := p.ballast; b != nil {
+		s = s.Add(b.body.Position().Mult(b.body.Mass()))
+		m += b.body.Mass()
 	}
 	return s.Mult(1 / m)
 }
@@ -686,10 +709,11 @@ func (p *Plant) centreOfMass() cp.Vector {
 func (p *Plant) centreOfPressure() (float64, bool) {
 	x, j := 0.0, 0.0
 	for i := range p.pads {
-		c := p.pads[i].contact
-		if jn := c.GetImpulse(); jn > 0 {
-			x += c.point().X * jn
-			j += jn
+		for _, c := range p.pads[i].edges {
+			if jn := c.GetImpulse(); jn > 0 {
+				x += c.point().X * jn
+				j += jn
+			}
 		}
 	}
 	if j <= 0 {

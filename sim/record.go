@@ -186,6 +186,7 @@ func (p *Plant) newRecorder(capacity int) *Recorder {
 	for i := range p.pads {
 		add(p.pads[i].name+".compression", "m")
 		add(p.pads[i].name+".force", "N")
+		add(p.pads[i].name+".stop", "N")
 	}
 	if p.ballast != nil {
 		add("ballast.position", "m")
@@ -280,6 +281,7 @@ func (p *Plant) record(now float64) {
 	for i := range p.pads {
 		put(p.pads[i].compression)
 		put(p.pads[i].force)
+		put(p.pads[i].stop)
 	}
 	if p.ballast != nil {
 		put(p.ballast.position())

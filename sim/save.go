@@ -65,13 +65,9 @@ func (p *Plant) Save() (*Saved, error) {
 	p.space.EachConstraint(func(c *cp.Constraint) {
 		s.parts = append(s.parts, keep(c))
 		switch k := c.Class.(type) {
-		case *cp.PivotJoint:
+		case *pivot:
 			s.parts = append(s.parts, keep(k))
-		case *cp.GrooveJoint:
-			s.parts = append(s.parts, keep(k))
-		case *cp.GearJoint:
-			s.parts = append(s.parts, keep(k))
-		case *cp.RotaryLimitJoint:
+		case *slide:
 			s.parts = append(s.parts, keep(k))
 		case *cp.SimpleMotor:
 			s.parts = append(s.parts, keep(k))

@@ -40,6 +40,14 @@ func newScrewLimit(c coord, q float64) *screwLimit {
 	return l
 }
 
+// newJointLimit keeps q within [lo, hi]: a joint's limits, the screw's
+// edges standing still.
+func newJointLimit(c coord, lo, hi float64) *screwLimit {
+	l := newScrewLimit(c, lo)
+	l.Max = hi
+	return l
+}
+
 // edgeRate is the speed at which q may close a gap to an edge in a step:
 // all of it when clear of the edge, none when past it.
 func (l *screwLimit) edgeRate(gap, dt float64) float64 {
@@ -68,9 +76,11 @@ func (l *screwLimit) PreStep(dt float64) {
 		return
 	}
 	l.mass = 1 / l.invMass()
-	// Over the step q' must stay within [biasLo, biasHi].
-	l.biasLo = l.Speed - l.edgeRate(q-l.Min, dt)
-	l.biasHi = l.Speed + l.edgeRate(l.Max-q, dt)
+	// Over the step q' must stay within [biasLo, biasHi], less the drift
+	// the position update adds (coord.drift).
+	drift := l.drift(q, dt) / dt
+	l.biasLo = l.Speed - l.edgeRate(q-l.Min, dt) - drift
+	l.biasHi = l.Speed + l.edgeRate(l.Max-q, dt) - drift
 }
 
 func (l *screwLimit) ApplyCachedImpulse(dtCoef float64) {

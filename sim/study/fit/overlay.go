@@ -22,9 +22,17 @@ func Overlay(res *Result, file string) error {
 	if strings.ToLower(filepath.Ext(file)) != ".png" {
 		return fmt.Errorf("plot %s: want a .png file", file)
 	}
+	img := OverlayImage(res, 8*vg.Inch)
+	return models.WriteFileAtomic(file, func(w io.Writer) error {
+		_, err := vgimg.PngCanvas{Canvas: img}.WriteTo(w)
+		return err
+	})
+}
+
+// OverlayImage is the overlay of Overlay, width wide.
+func OverlayImage(res *Result, width vg.Length) *vgimg.Canvas {
 	n := len(res.Signals)
-	height := vg.Length(n) * 1.8 * vg.Inch
-	img := vgimg.New(8*vg.Inch, height)
+	img := vgimg.New(width, vg.Length(n)*1.8*vg.Inch)
 	dc := draw.New(img)
 	tiles := draw.Tiles{Rows: n, Cols: 1, PadY: vg.Millimeter}
 	ps := panels(res)
@@ -32,10 +40,7 @@ func Overlay(res *Result, file string) error {
 	for i, row := range ps {
 		row[0].Draw(canvases[i][0])
 	}
-	return models.WriteFileAtomic(file, func(w io.Writer) error {
-		_, err := vgimg.PngCanvas{Canvas: img}.WriteTo(w)
-		return err
-	})
+	return img
 }
 
 func panels(res *Result) [][]*plot.Plot {

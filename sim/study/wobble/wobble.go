@@ -40,14 +40,20 @@ func BacklashDF(a, width float64) complex128 {
 
 // BacklashCycle predicts the limit cycle of a loop made of a linear part
 // g(jw) and backlash of the given width in series, by harmonic balance:
-// 1 + N(a) g(jw) = 0. It scans the frequencies wlo..whi and the amplitudes
-// above the play for every pair that satisfies the balance to within 1e-3,
-// keeps those that are stable cycles (stable), and returns the one of
-// largest amplitude with its residual |1 + N g|; ok is false when there is
-// none. Without a stable solution it returns the best pair found.
+// 1 + N(a) g(jw) = 0 (see Balance).
 func BacklashCycle(g func(w float64) complex128, width, wlo, whi float64) (a, w, residual float64, ok bool) {
+	return Balance(func(a, w float64) complex128 { return 1 + BacklashDF(a, width)*g(w) }, width, wlo, whi)
+}
+
+// Balance solves a harmonic balance f(a, w) = 0 over the frequencies
+// wlo..whi and the amplitudes above half the play: it scans for every pair
+// that satisfies it to within 1e-3, keeps those that are stable cycles
+// (stable), and returns the one of largest amplitude with its residual
+// |f|; ok is false when there is none, and the best pair found is
+// returned.
+func Balance(f func(a, w float64) complex128, width, wlo, whi float64) (a, w, residual float64, ok bool) {
 	const n = 200
-	res := func(a, w float64) float64 { return cmplx.Abs(1 + BacklashDF(a, width)*g(w)) }
+	res := func(a, w float64) float64 { return cmplx.Abs(f(a, w)) }
 	ai := func(k int) float64 { return width / 2 * math.Pow(1000, float64(k)/n) }
 	wi := func(i int) float64 { return wlo * math.Pow(whi/wlo, float64(i)/n) }
 	grid := make([][]float64, n+1)
@@ -68,7 +74,7 @@ func BacklashCycle(g func(w float64) complex128, width, wlo, whi float64) (a, w,
 			if v < best && !ok {
 				a, w, best = ca, cw, v
 			}
-			if v < 1e-3 && stable(g, ca, cw, width) && (!ok || ca > a) {
+			if v < 1e-3 && stable(f, ca, cw) && (!ok || ca > a) {
 				a, w, best, ok = ca, cw, v, true
 			}
 		}
@@ -108,12 +114,13 @@ func refine(res func(a, w float64) float64, a, w, width float64) (float64, float
 }
 
 // stable applies Loeb's criterion to a solution of the balance: writing
-// 1 + N(a) g(jw) = U + jV, the cycle is stable when
+// f(a, w) = U + jV, the cycle is stable when
 // dU/da dV/dw - dU/dw dV/da > 0 (Gelb and Vander Velde, 1968, ch. 2; the
 // sign checked on the servo of the tests, whose larger cycle is the one
-// the simulation settles on).
-func stable(g func(w float64) complex128, a, w, width float64) bool {
-	f := func(a, w float64) complex128 { return 1 + BacklashDF(a, width)*g(w) }
+// the simulation settles on). A determinant det(I + N G) is a product of
+// such factors; the others, constant near a root of one, turn and scale
+// the (U, V) plane without changing the sign.
+func stable(f func(a, w float64) complex128, a, w float64) bool {
 	ha, hw := a*1e-5, w*1e-5
 	fa := (f(a+ha, w) - f(a-ha, w)) / complex(2*ha, 0)
 	fw := (f(a, w+hw) - f(a, w-hw)) / complex(2*hw, 0)

@@ -77,7 +77,7 @@ func TestBacklashCycleOnKnownLoop(t *testing.T) {
 	if math.Abs(a-wantA)/wantA > 0.03 || math.Abs(w-wantW)/wantW > 0.03 {
 		t.Errorf("amplitude %.4g at %.4g rad/s; the hand-worked balance gives %.4g at %.4g rad/s", a, w, wantA, wantW)
 	}
-	if stable(g, 0.0528, 0.318, width) {
+	if stable(func(a, w float64) complex128 { return 1 + BacklashDF(a, width)*g(w) }, 0.0528, 0.318) {
 		t.Error("the smaller balance (a 0.0528, w 0.318 rad/s) passes as a stable cycle")
 	}
 }
