@@ -89,6 +89,9 @@ func (w *Window) menu() *fyne.MainMenu {
 		fyne.NewMenuItem("Run / pause", w.toggleRun),
 		fyne.NewMenuItem("Single step", func() { w.after(w.run.StepOnce()) }),
 		fyne.NewMenuItem("Reset", w.reset),
+		fyne.NewMenuItemSeparator(),
+		fyne.NewMenuItem("Open log…", func() { w.openFile(w.OpenLog) }),
+		fyne.NewMenuItem("Fit…", w.showFit),
 	)
 	return fyne.NewMainMenu(file, edit, sim)
 }

@@ -86,6 +86,7 @@ type Window struct {
 	shoves    *shovePanel
 	studies   *fyne.Container
 	study     *studiesPanel
+	fit       *fitPanel
 	saver     *autosaver
 	frozen    bool
 	window    float64
@@ -462,6 +463,7 @@ func (w *Window) refresh() {
 	if !w.frozen {
 		w.run.Recent(&w.traces.data, w.window, idx)
 		w.traces.hasRef = w.run.ReferenceTrace(&w.traces.ref, st.Time-w.window, idx)
+		w.fit.overlay(w.traces, st.Time-w.window)
 		w.traces.now = math.Max(st.Time, w.window)
 		w.traces.raster.Refresh()
 	}
