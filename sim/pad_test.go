@@ -1,6 +1,7 @@
 package sim
 
 import (
+	"errors"
 	"math"
 	"testing"
 
@@ -129,6 +130,158 @@ func TestCoulombFrictionOnSlope(t *testing.T) {
 		want := v0*1 + a/2
 		if math.Abs(moved/want-1) > 0.03 {
 			t.Errorf("tilt %.4f rad above atan(mu) %.4f: slid %.4f m in 1 s, want %.4f m", tc.tilt, critical, moved, want)
+		}
+	}
+}
+
+// post is a rigid 5 kg body on one pad of width w at its link origin:
+// its centre of mass sits h above the pad's bottom, with a small moment
+// of inertia of its own, tilted by tilt.
+func post(w, h, inertia, tilt float64) *models.Robot {
+	const thickness = 0.01
+	com := models.Vec2{Y: h - thickness}
+	return &models.Robot{Name: "post", Root: "post", NoiseScale: 1,
+		Links: []models.Link{{Name: "post", Mass: 5, Angle: tilt, COM: &com, Inertia: inertia,
+			Shape: models.Shape{Kind: models.Box, Width: 0.01, Height: 1.2 * h, Center: models.Vec2{Y: 0.6 * h}}}},
+		Feet: []models.Foot{{Name: "foot", Link: "post", Pads: []models.Pad{{Name: "pad", Position: models.Vec2{Y: -thickness / 2},
+			Width: w, Thickness: thickness, Mass: 1e-6, Stiffness: 2e6, Damping: 2e3, Travel: 0.002, Friction: 0.9}}}}}
+}
+
+func TestBlockTipsPastItsPadsOuterEdge(t *testing.T) {
+	// A rigid body on one pad stands while its centre of mass is over the
+	// pad and tips once it has passed the outer edge: the static tipping
+	// angle atan((w/2)/h) (statics: the ground's reaction cannot leave
+	// the support). Half a degree either side of it. Standing, it rocks
+	// from edge to edge, losing energy at each landing (a rocking block),
+	// so it never leans further than it started.
+	const h = 0.2
+	for _, w := range []float64{0.02, 0.06} {
+		critical := math.Atan(w / 2 / h)
+		for _, tc := range []struct {
+			tilt  float64
+			falls bool
+		}{{critical - 0.5*math.Pi/180, false}, {critical + 0.5*math.Pi/180, true}} {
+			p, err := New(post(w, h, 1e-4, tc.tilt), nil, Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			widest := 0.0
+			for p.Time() < 4 && err == nil {
+				err = p.Step()
+				widest = math.Max(widest, math.Abs(tilt(p.link("post").body)))
+			}
+			fell := errors.Is(err, ErrFallen)
+			if err != nil && !fell {
+				t.Fatal(err)
+			}
+			if fell != tc.falls {
+				t.Errorf("pad %g mm, tilted %.2f deg (tipping angle %.2f deg): fell %v, want %v (%v)",
+					w*1e3, tc.tilt*180/math.Pi, critical*180/math.Pi, fell, tc.falls, err)
+			}
+			if !fell && widest > tc.tilt+1e-3 {
+				t.Errorf("pad %g mm: stood, but leaned to %.3f deg from %.3f deg", w*1e3, widest*180/math.Pi, tc.tilt*180/math.Pi)
+			}
+		}
+	}
+}
+
+func TestCapturePointBoundGrowsWithThePadsEdge(t *testing.T) {
+	// Capture point of the linear inverted pendulum (Pratt et al., 2006):
+	// with the centre of pressure at most at the support's edge x_edge
+	// from below the centre of mass, a push J is recoverable only if
+	// J / m <= sqrt(g/h) x_edge. A rigid pole with its mass high on one
+	// pad, pushed at its centre of mass: the largest push it survives
+	// (found to 1 %) must stay under the bound and grow with the pad's
+	// half-width in proportion, as the bound does.
+	const m, h = 5.0, 0.6
+	bound := func(w float64) float64 { return m * math.Sqrt(Gravity/h) * w / 2 }
+	survives := func(w, j float64) bool {
+		p, err := New(post(w, h, 1e-3, 0), nil, Options{Shoves: []Shove{{At: 0.5, Impulse: models.Vec2{X: j}}}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		err = p.RunFor(4)
+		if err != nil && !errors.Is(err, ErrFallen) {
+			t.Fatal(err)
+		}
+		return err == nil
+	}
+	largest := map[float64]float64{}
+	for _, w := range []float64{0.02, 0.06} {
+		lo, hi := 0.0, 2*bound(w)
+		for hi-lo > 0.01*bound(w) {
+			if mid := (lo + hi) / 2; survives(w, mid) {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		largest[w] = lo
+		t.Logf("pad %g mm: survives %.4f N*s, capture-point bound %.4f N*s (%.0f %%)", w*1e3, lo, bound(w), 100*lo/bound(w))
+		if lo > bound(w)*1.02 {
+			t.Errorf("pad %g mm: survives %.4f N*s, beyond the bound %.4f N*s", w*1e3, lo, bound(w))
+		}
+		if lo < 0.7*bound(w) {
+			t.Errorf("pad %g mm: survives only %.4f N*s, under 70 %% of the bound %.4f N*s", w*1e3, lo, bound(w))
+		}
+	}
+	if r := largest[0.06] / largest[0.02]; math.Abs(r/3-1) > 0.1 {
+		t.Errorf("a pad three times as wide survives %.2f times the push, want 3 within 10 %%", r)
+	}
+}
+
+func TestTiltedRobotStartsWithItsPadsOnTheGround(t *testing.T) {
+	// The initial placement rests the lowest pad corner on the ground, and
+	// a pad touches at its corners: the robot starts touching, neither
+	// sunk in nor dropped from above (geometry).
+	for _, tilt := range []float64{0, 3 * math.Pi / 180, -0.1} {
+		r := loadBuiltin(t, "frontal")
+		r.Links[0].Angle = tilt
+		p, err := New(r, nil, Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		deepest := math.Inf(-1)
+		for i := range p.pads {
+			for _, c := range p.pads[i].edges {
+				d, _ := c.ground.depth(c.point())
+				deepest = math.Max(deepest, d)
+			}
+		}
+		if math.Abs(deepest) > 1e-12 {
+			t.Errorf("tilted %.3f rad: the lowest pad corner starts %.3g m into the ground", tilt, deepest)
+		}
+	}
+}
+
+func TestIdenticalPadsShareTheStopEvenly(t *testing.T) {
+	// A rigid block on three identical pads, evenly spaced under its
+	// centre of mass and pressed past their travel: flat on the ground,
+	// each pad is pressed as far as the others, so identical springs and
+	// stops carry the same load (statics of a rigid body on equal
+	// parallel springs, any strength of materials text).
+	r := block(300, 1e5, 200, 0.003, 0.8, 0)
+	f := &r.Feet[0]
+	f.Pads = append(f.Pads, f.Pads[0])
+	f.Pads[2].Name, f.Pads[2].Position.X = "middle", 0
+	p, err := New(r, nil, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := p.RunFor(2); err != nil {
+		t.Fatal(err)
+	}
+	total, stops := 0.0, 0.0
+	for _, pd := range p.pads {
+		total += pd.force
+		stops += pd.stop
+	}
+	if !(stops > 0.5*total) {
+		t.Fatalf("the stops carry %.1f N of %.1f N: the test would not see them", stops, total)
+	}
+	for _, pd := range p.pads {
+		if math.Abs(pd.force/(total/3)-1) > 0.01 || math.Abs(pd.stop/(stops/3)-1) > 0.01 {
+			t.Errorf("pad %s carries %.1f N (stop %.1f N); a third is %.1f N (stop %.1f N)", pd.name, pd.force, pd.stop, total/3, stops/3)
 		}
 	}
 }
