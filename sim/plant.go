@@ -663,6 +663,9 @@ func (p *Plant) checkFall() {
 	}
 	for i := range p.links {
 		l := &p.links[i]
+		if l.body.GetType() == cp.BODY_STATIC {
+			continue // welded to the world, it may stand on the floor
+		}
 		for _, c := range p.corners[i] {
 			if d, _ := p.ground.depth(l.world(c)); d+p.radii[i] > 0 {
 				p.setFall(l.name+" touched the ground", l.name)
