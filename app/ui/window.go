@@ -81,7 +81,8 @@ type Window struct {
 	gainRows  map[string]*gainRow
 	gainBox   *fyne.Container
 	blockBox  *fyne.Container
-	graph     *graphView
+	graph     *cascadeView
+	graphTab  *container.TabItem
 	robotBox  *fyne.Container
 	shoves    *shovePanel
 	studies   *fyne.Container
@@ -273,20 +274,20 @@ func (w *Window) build() {
 
 	w.gainBox = container.NewVBox()
 	w.blockBox = container.NewVBox()
-	w.graph = newGraphView(w.showBlock)
+	w.graph = newCascadeView(w.showBlock)
 	w.robotBox = container.NewVBox()
 	w.shoves = newShovePanel(w)
 	w.study = newStudiesPanel(w)
 	w.studies = container.NewStack(w.study.object())
-	graphScroll := container.NewScroll(container.New(&fixedLayout{g: w.graph}, w.graph.content))
-	addBlock := widget.NewButtonWithIcon("Add block…", theme.ContentAddIcon(), w.addBlockDialog)
-	graphTab := container.NewBorder(container.NewHBox(addBlock, widget.NewLabel("Select a block to tune, rewire or remove it.")), nil, nil, nil,
-		container.NewVSplit(graphScroll, container.NewVScroll(w.blockBox)))
+	addBlock := widget.NewButtonWithIcon("Insert a block…", theme.ContentAddIcon(), w.addBlockDialog)
+	fitCascade := widget.NewCheck("Fit to view", w.graph.setCompact)
+	w.graphTab = container.NewTabItem("Controller", container.NewBorder(container.NewHBox(fitCascade, addBlock), nil, nil, nil,
+		container.NewVSplit(container.NewVScroll(w.graph.content), container.NewVScroll(w.blockBox))))
 	w.tabs = container.NewAppTabs(
 		container.NewTabItem("Gains", container.NewVScroll(w.gainBox)),
 		container.NewTabItem("Robot", container.NewVScroll(w.robotBox)),
 		container.NewTabItem("Shoves", w.shoves.object()),
-		container.NewTabItem("Controller", graphTab),
+		w.graphTab,
 		container.NewTabItem("Studies", w.studies),
 		container.NewTabItem("Help", container.NewVScroll(helpContent())),
 	)
@@ -308,14 +309,6 @@ func (w *Window) showSpeed(v float64) {
 			w.speed.SetSelected(name)
 		}
 	}
-}
-
-// fixedLayout gives the graph's content the size its layout needs.
-type fixedLayout struct{ g *graphView }
-
-func (l *fixedLayout) Layout([]fyne.CanvasObject, fyne.Size) {}
-func (l *fixedLayout) MinSize([]fyne.CanvasObject) fyne.Size {
-	return l.g.minSize()
 }
 
 // after shows a command's error, if any, once the runner has handled it,
@@ -450,7 +443,7 @@ func (w *Window) refresh() {
 		w.shown = defaultSignals(names, w.spec)
 	}
 	w.traces.names = names
-	w.traces.units = w.run.SignalUnits()
+	w.traces.units = blockUnits(w.spec, names, w.run.SignalUnits())
 	idx := w.traces.shown[:0]
 	for _, s := range w.shown {
 		for i, n := range names {
@@ -460,6 +453,9 @@ func (w *Window) refresh() {
 		}
 	}
 	w.traces.shown = idx
+	if w.tabs.Selected() == w.graphTab {
+		w.graph.update(w.run, w.gains)
+	}
 	if !w.frozen {
 		w.run.Recent(&w.traces.data, w.window, idx)
 		w.traces.hasRef = w.run.ReferenceTrace(&w.traces.ref, st.Time-w.window, idx)
@@ -504,6 +500,40 @@ func (w *Window) showBanner(text string) {
 	w.banner.Show()
 }
 
+// blockUnits fills in the units the recorder does not know for the
+// controller's signals: a sensor block's is its channel's, a PID's outputs
+// are in the unit of its limits (a loop without limits stays bare).
+func blockUnits(spec *control.Spec, names, units []string) []string {
+	if spec == nil {
+		return units
+	}
+	units = slices.Clone(units)
+	of := map[string]string{}
+	for i, n := range names {
+		of[n] = unitOf(units, i)
+	}
+	for _, b := range spec.Blocks {
+		switch b.Kind {
+		case "sensor":
+			of[b.Name+".out"] = of[b.Options["channel"]]
+		case "pid":
+			for _, p := range b.Params {
+				if p.Name == "min" {
+					for _, o := range b.Outputs {
+						of[b.Name+"."+o] = p.Unit
+					}
+				}
+			}
+		}
+	}
+	for i, n := range names {
+		if i < len(units) && units[i] == "" {
+			units[i] = of[n]
+		}
+	}
+	return units
+}
+
 // defaultSignals picks up to six signals to plot at the start: what a
 // builder watches of the controller, outermost loop first: the outer PID's
 // measurement (the torso tilt estimate), then each PID's output in file
@@ -518,18 +548,18 @@ func defaultSignals(names []string, spec *control.Spec) []string {
 		}
 	}
 	is := func(name string) func(string) bool {
-		return func(n string) bool { return n == name || n == name+".out" }
+		return func(n string) bool { return n == name }
 	}
 	if spec != nil {
 		for _, b := range spec.Blocks {
 			if b.Kind == "pid" && len(b.Inputs) > 1 && b.Inputs[1].Source != "" {
-				add(is(b.Inputs[1].Source))
+				add(is(signalOf(spec, b.Inputs[1].Source)))
 				break
 			}
 		}
 		for _, b := range spec.Blocks {
 			if b.Kind == "pid" {
-				add(is(b.Name))
+				add(is(b.Name + ".out"))
 			}
 		}
 	}

@@ -352,24 +352,6 @@ func TestRobotViewDrawsTheRobotWhereTheModelSays(t *testing.T) {
 	}
 }
 
-func TestLongestPathLayering(t *testing.T) {
-	// A diamond a->b, a->c, b->d, c->d plus a->d: the longest path to d has
-	// two edges, so d is in layer 2 although a feeds it directly (longest-path
-	// layering, Healy and Nikolov, "Graph drawing handbook" ch. 13).
-	// A feedback edge d->b must not change the layers.
-	inputs := [][]int{{}, {0, 3}, {0}, {1, 2, 0}}
-	col, row := layerNodes(inputs)
-	want := []int{0, 1, 1, 2}
-	for i := range want {
-		if col[i] != want[i] {
-			t.Fatalf("layers %v, want %v", col, want)
-		}
-	}
-	if row[1] == row[2] {
-		t.Fatalf("b and c share row %d in one layer", row[1])
-	}
-}
-
 func TestHelpHasTheSafetyNotes(t *testing.T) {
 	h := helpText()
 	for _, s := range []string{"not a certificate", "crush fingers", "tethered", "emergency stop", "local codes"} {
