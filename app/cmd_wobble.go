@@ -53,7 +53,7 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 		}
 		return fmt.Sprintf("%.3f mm", v*1000)
 	}
-	simulated := func(label string, rotary bool, s wobble.Simulated, screws bool) {
+	simulated := func(label string, rotary bool, s wobble.Simulated, screws bool) { // screws: one screw's amplitudes mean something
 		switch {
 		case s.Fell:
 			fmt.Fprintf(stdout, "%-12s %-10s the robot fell\n", label, "simulated")
@@ -65,17 +65,16 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", label, "simulated", "", "", s.TiltAmp, s.FrequencyHz)
 		}
 	}
-	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then all together; every run shoved at 1 s\n", *backlashText, *acts, r.Robot.Name)
+	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then all together (all: the same amplitude at each screw, the largest screw's shown); every run shoved at 1 s\n", *backlashText, *acts, r.Robot.Name)
 	fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10s %10s\n", "", "", "screw amp", "output amp", "tilt deg", "freq Hz")
-	for _, l := range res.Loops {
+	for _, l := range append(res.Loops, res.All) {
 		p := l.Prediction
 		if p.Found {
 			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", p.Actuator, "predicted", unit(p.Rotary, p.ScrewAmp), unit(p.Rotary, p.OutputAmp), p.TiltAmp, p.FrequencyHz)
 		} else {
 			fmt.Fprintf(stdout, "%-12s %-10s %s\n", p.Actuator, "predicted", p.Why)
 		}
-		simulated("", p.Rotary, l.Sim, true)
+		simulated("", p.Rotary, l.Sim, p.Actuator != "all")
 	}
-	simulated("all", false, res.All, false)
 	return nil
 }

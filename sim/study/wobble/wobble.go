@@ -197,21 +197,25 @@ type Loop struct {
 // Result is every listed screw's loop, and the rig run with the backlash
 // in all of them at once.
 type Result struct {
-	Backlash float64   `json:"backlash"`
-	Loops    []Loop    `json:"loops"`
-	All      Simulated `json:"all"`
+	Backlash float64 `json:"backlash"`
+	Loops    []Loop  `json:"loops"`
+	All      Loop    `json:"all"`
 }
 
-// Response is the linear part of one screw's loop, measured at some
-// frequencies: G = -X/Y, the torso tilt and the screw's load per unit of
-// the joint's motion, and the screw's static load.
+// Response is the linear part of the loops through some lead screws,
+// measured at some frequencies by injecting at each screw in turn: per
+// frequency, column j of X, Y, Tilt and Load holds the Fourier
+// coefficients of every screw (less the injection), every output, the
+// torso tilt and every screw's load while screw j is driven. Each screw's
+// loop alone is its column's diagonal entry; together, x = -G y with
+// G = -X Y^-1.
 type Response struct {
-	Actuator   string
-	Rotary     bool
+	Actuators  []string
+	Rotary     []bool
 	Hz         []float64
-	G          []complex128
-	Tilt, Load []complex128
-	StaticLoad float64
+	X, Y, Load []cmat // n x n per frequency
+	Tilt       []cmat // 1 x n per frequency
+	StaticLoad []float64
 }
 
 // responseHz are the frequencies measured, a log scale over the range a
@@ -225,19 +229,17 @@ func responseHz() []float64 {
 	return out
 }
 
-// Measure measures the linear part of the loop through one lead screw.
-func Measure(r *rig.Rig, actuator string, seed uint64) (*Response, error) {
+// Measure measures the linear part of the loops through the lead screws.
+func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 	ideal := modes.Ideal(r)
-	i := slices.IndexFunc(ideal.Robot.Actuators, func(a models.Actuator) bool { return a.Name == actuator })
-	if i < 0 || ideal.Robot.Actuators[i].Kind != models.LeadScrew || ideal.Robot.Actuators[i].Ballast {
-		return nil, fmt.Errorf("wobble: %q is not a lead screw of %s", actuator, r.Robot.Name)
-	}
-	res := &Response{Actuator: actuator, Rotary: modes.Rotary(ideal.Robot, &ideal.Robot.Actuators[i]), Hz: responseHz()}
-	// Well above the solver's 20 um of slop at a rigid screw, well below
-	// what upsets a standing robot.
-	amp := 1e-4
-	if res.Rotary {
-		amp = 0.2 * math.Pi / 180
+	n := len(actuators)
+	res := &Response{Actuators: actuators, Hz: responseHz(), StaticLoad: make([]float64, n)}
+	for _, name := range actuators {
+		i := slices.IndexFunc(ideal.Robot.Actuators, func(a models.Actuator) bool { return a.Name == name })
+		if i < 0 || ideal.Robot.Actuators[i].Kind != models.LeadScrew || ideal.Robot.Actuators[i].Ballast {
+			return nil, fmt.Errorf("wobble: %q is not a lead screw of %s", name, r.Robot.Name)
+		}
+		res.Rotary = append(res.Rotary, modes.Rotary(ideal.Robot, &ideal.Robot.Actuators[i]))
 	}
 	p, _, err := ideal.Build(sim.Options{Seed: seed})
 	if err != nil {
@@ -252,121 +254,243 @@ func Measure(r *rig.Rig, actuator string, seed uint64) (*Response, error) {
 		return nil, err
 	}
 	rec := p.Recorder()
-	cols := []int{rec.Index("time"), rec.Index(actuator + ".screw"), rec.Index(actuator + ".output"), rec.Index("torso_tilt"), rec.Index(actuator + ".force")}
-	for _, c := range cols {
+	col := func(name string) int {
+		c := rec.Index(name)
 		if c < 0 {
-			return nil, errors.New("wobble: the recorder lacks a column the measurement needs")
+			err = fmt.Errorf("wobble: no recorded column %q", name)
 		}
+		return c
 	}
-	res.StaticLoad = rec.At(rec.Len()-1, cols[4])
+	timeCol, tiltCol := col("time"), col("torso_tilt")
+	screwCol, outCol, loadCol := make([]int, n), make([]int, n), make([]int, n)
+	for i, name := range actuators {
+		screwCol[i], outCol[i], loadCol[i] = col(name+".screw"), col(name+".output"), col(name+".force")
+	}
+	if err != nil {
+		return nil, err
+	}
+	for i := range actuators {
+		res.StaticLoad[i] = rec.At(rec.Len()-1, loadCol[i])
+	}
 	for _, hz := range res.Hz {
-		if err := p.Restore(saved); err != nil {
-			return nil, err
-		}
-		w := 2 * math.Pi * hz
-		period := 1 / hz
-		start := settle + math.Max(1, period)   // the transient dies out
-		periods := math.Ceil(math.Max(3, 2*hz)) // at least 2 s
-		end := start + periods*period
-		injected := 0.0
-		first := rec.Len()
-		for p.Time() < end {
-			d := amp * math.Sin(w*(p.Time()-settle))
-			if err := p.NudgeScrew(actuator, d-injected); err != nil {
+		x, y, load, tilt := newCmat(n, n), newCmat(n, n), newCmat(n, n), newCmat(1, n)
+		for j, name := range actuators {
+			// Well above the solver's 20 um of slop at a rigid screw, well
+			// below what upsets a standing robot.
+			amp := 1e-4
+			if res.Rotary[j] {
+				amp = 0.2 * math.Pi / 180
+			}
+			if err := p.Restore(saved); err != nil {
 				return nil, err
 			}
-			injected = d
-			if err := p.Step(); err != nil {
-				return nil, fmt.Errorf("wobble: injecting %.3g Hz at %s: %w", hz, actuator, err)
+			w := 2 * math.Pi * hz
+			period := 1 / hz
+			start := settle + math.Max(1, period)   // the transient dies out
+			periods := math.Ceil(math.Max(3, 2*hz)) // at least 2 s
+			end := start + periods*period
+			injected := 0.0
+			first := rec.Len()
+			for p.Time() < end {
+				d := amp * math.Sin(w*(p.Time()-settle))
+				if err := p.NudgeScrew(name, d-injected); err != nil {
+					return nil, err
+				}
+				injected = d
+				if err := p.Step(); err != nil {
+					return nil, fmt.Errorf("wobble: injecting %.3g Hz at %s: %w", hz, name, err)
+				}
+			}
+			var rows []int
+			for k := first; k < rec.Len(); k++ {
+				if t := rec.At(k, timeCol); t >= start && t < end {
+					rows = append(rows, k)
+				}
+			}
+			if len(rows) == 0 {
+				return nil, fmt.Errorf("wobble: no samples at %.3g Hz", hz)
+			}
+			// Fourier coefficients at w over the whole periods from start,
+			// of each signal less its mean: the standing values are large
+			// beside the swing, and the samples cover whole periods only to
+			// within a sample.
+			coef := func(c int, less float64) complex128 {
+				v := func(k int) float64 {
+					return rec.At(k, c) - less*amp*math.Sin(w*(rec.At(k, timeCol)-settle))
+				}
+				mean := 0.0
+				for _, k := range rows {
+					mean += v(k)
+				}
+				mean /= float64(len(rows))
+				var sum complex128
+				for _, k := range rows {
+					sum += complex(v(k)-mean, 0) * cmplx.Exp(complex(0, -w*(rec.At(k, timeCol)-settle)))
+				}
+				return sum
+			}
+			for i := range actuators {
+				injectedHere := 0.0
+				if i == j {
+					injectedHere = 1
+				}
+				x.set(i, j, coef(screwCol[i], injectedHere))
+				y.set(i, j, coef(outCol[i], 0))
+				load.set(i, j, coef(loadCol[i], 0))
+			}
+			tilt.set(0, j, coef(tiltCol, 0))
+			if y.at(j, j) == 0 {
+				return nil, fmt.Errorf("wobble: no response at %.3g Hz", hz)
 			}
 		}
-		// Fourier coefficients at w over the whole periods from start,
-		// of each signal less its mean: the standing values are large
-		// beside the swing, and the samples cover whole periods only to
-		// within a sample.
-		var rows []int
-		for k := first; k < rec.Len(); k++ {
-			if t := rec.At(k, cols[0]); t >= start && t < end {
-				rows = append(rows, k)
-			}
-		}
-		if len(rows) == 0 {
-			return nil, fmt.Errorf("wobble: no samples at %.3g Hz", hz)
-		}
-		signal := func(k, c int) float64 {
-			v := rec.At(k, c)
-			if c == cols[1] {
-				v -= amp * math.Sin(w*(rec.At(k, cols[0])-settle))
-			}
-			return v
-		}
-		coef := func(c int) complex128 {
-			mean := 0.0
-			for _, k := range rows {
-				mean += signal(k, c)
-			}
-			mean /= float64(len(rows))
-			var sum complex128
-			for _, k := range rows {
-				sum += complex(signal(k, c)-mean, 0) * cmplx.Exp(complex(0, -w*(rec.At(k, cols[0])-settle)))
-			}
-			return sum
-		}
-		x, y, tilt, load := coef(cols[1]), coef(cols[2]), coef(cols[3]), coef(cols[4])
-		if y == 0 {
-			return nil, fmt.Errorf("wobble: no response at %.3g Hz", hz)
-		}
-		res.G = append(res.G, -x/y)
-		res.Tilt = append(res.Tilt, tilt/y)
-		res.Load = append(res.Load, load/y)
+		res.X, res.Y, res.Load, res.Tilt = append(res.X, x), append(res.Y, y), append(res.Load, load), append(res.Tilt, tilt)
 	}
 	return res, nil
 }
 
-// at interpolates a measured response at w (rad/s): magnitude and phase
-// linear in log frequency, held at the ends.
-func (r *Response) at(v []complex128, w float64) complex128 {
-	hz := w / (2 * math.Pi)
-	k := sort.SearchFloat64s(r.Hz, hz)
-	switch {
-	case k == 0:
-		return v[0]
-	case k == len(r.Hz):
-		return v[len(v)-1]
+// loop is the linear part at one frequency, as matrices on the outputs: the
+// screws x = -G y, the tilt and the loads per unit of the outputs.
+type loop struct{ g, tilt, load cmat }
+
+// together is the loop through every measured screw at once.
+func (r *Response) together(k int) (loop, bool) {
+	yi, ok := r.Y[k].inverse()
+	if !ok {
+		return loop{}, false
 	}
-	f := math.Log(hz/r.Hz[k-1]) / math.Log(r.Hz[k]/r.Hz[k-1])
-	m := math.Exp((1-f)*math.Log(cmplx.Abs(v[k-1])) + f*math.Log(cmplx.Abs(v[k])))
-	ph0 := cmplx.Phase(v[k-1])
-	ph1 := ph0 + math.Remainder(cmplx.Phase(v[k])-ph0, 2*math.Pi)
-	return cmplx.Rect(m, (1-f)*ph0+f*ph1)
+	return loop{g: r.X[k].mul(yi).scale(-1), tilt: r.Tilt[k].mul(yi), load: r.Load[k].mul(yi)}, true
 }
 
-// Predict solves the harmonic balance of the loop with the given play and
-// checks the describing function's assumptions at the answer.
-func (r *Response) Predict(width float64) Prediction {
-	pr := Prediction{Actuator: r.Actuator, Rotary: r.Rotary, StaticLoad: r.StaticLoad}
-	g := func(w float64) complex128 { return r.at(r.G, w) }
+// alone is the loop through screw j, the others without play: its own
+// injection's responses.
+func (r *Response) alone(k, j int) loop {
+	y := r.Y[k].at(j, j)
+	one := func(v complex128) cmat { m := newCmat(1, 1); m.set(0, 0, v); return m }
+	return loop{g: one(-r.X[k].at(j, j) / y), tilt: one(r.Tilt[k].at(0, j) / y), load: one(r.Load[k].at(j, j) / y)}
+}
+
+// Alone predicts the cycle of screw j's loop with the given play, the other
+// screws without play.
+func (r *Response) Alone(j int, width float64) Prediction {
+	loops := make([]loop, len(r.Hz))
+	for k := range r.Hz {
+		loops[k] = r.alone(k, j)
+	}
+	pr := r.predict(loops, width, []float64{r.StaticLoad[j]})
+	pr.Actuator, pr.Rotary = r.Actuators[j], r.Rotary[j]
+	return pr
+}
+
+// Together predicts the cycle with the given play in every measured screw,
+// taking the same amplitude at each (one describing function for all), as
+// the symmetric left-right modes of a robot have; the amplitudes given are
+// the largest screw's.
+func (r *Response) Together(width float64) Prediction {
+	loops := make([]loop, len(r.Hz))
+	for k := range r.Hz {
+		l, ok := r.together(k)
+		if !ok {
+			return Prediction{Actuator: "all", Why: NoBalance}
+		}
+		loops[k] = l
+	}
+	pr := r.predict(loops, width, r.StaticLoad)
+	pr.Actuator, pr.Rotary = "all", slices.Contains(r.Rotary, true) && !slices.Contains(r.Rotary, false)
+	return pr
+}
+
+// predict solves det(I + N(a) G(jw)) = 0 on the loops interpolated between
+// the measured frequencies and checks the describing function's
+// assumptions at the answer.
+func (r *Response) predict(loops []loop, width float64, static []float64) Prediction {
+	pr := Prediction{StaticLoad: maxAbs(static)}
+	at := func(w float64) loop {
+		return loop{g: r.interpolate(loops, w, func(l loop) cmat { return l.g }),
+			tilt: r.interpolate(loops, w, func(l loop) cmat { return l.tilt }),
+			load: r.interpolate(loops, w, func(l loop) cmat { return l.load })}
+	}
+	f := func(a, w float64) complex128 {
+		g := r.interpolate(loops, w, func(l loop) cmat { return l.g })
+		return g.scale(BacklashDF(a, width)).plusIdentity().det()
+	}
 	wlo, whi := 2*math.Pi*r.Hz[0], 2*math.Pi*r.Hz[len(r.Hz)-1]
-	a, w, resid, ok := BacklashCycle(g, width, wlo, whi)
+	a, w, resid, ok := Balance(f, width, wlo, whi)
 	pr.Residual = resid
 	if !ok {
 		pr.Why = NoBalance
 		return pr
 	}
-	out := a * cmplx.Abs(BacklashDF(a, width))
-	pr.LoadAmp = out * cmplx.Abs(r.at(r.Load, w))
+	n := BacklashDF(a, width)
+	l := at(w)
+	// The cycle's shape: x in the null space of I + N G, the largest screw
+	// at amplitude a; the outputs y = N x.
+	shape, ok := l.g.scale(n).plusIdentity().nullVector()
+	if !ok {
+		pr.Why = NoBalance
+		return pr
+	}
+	shape = shape.scale(complex(a/maxAbsC(shape.v), 0))
+	y := shape.scale(n)
+	loads := l.load.mul(y)
+	pr.LoadAmp = math.Inf(1)
+	preloaded := false
+	for i, s := range static {
+		swing := cmplx.Abs(loads.at(i, 0))
+		pr.LoadAmp = math.Min(pr.LoadAmp, swing)
+		preloaded = preloaded || math.Abs(s) > swing
+	}
 	switch {
-	case 3*w <= whi && cmplx.Abs(g(3*w)) >= cmplx.Abs(g(w)):
+	case 3*w <= whi && at(3*w).g.norm() >= l.g.norm():
 		pr.Why = Unfiltered
-	case math.Abs(r.StaticLoad) > pr.LoadAmp:
+	case preloaded:
 		pr.Why = Preloaded
 	default:
 		pr.Found = true
-		pr.ScrewAmp, pr.OutputAmp = a, out
-		pr.TiltAmp = out * cmplx.Abs(r.at(r.Tilt, w)) * 180 / math.Pi
+		pr.ScrewAmp, pr.OutputAmp = a, a*cmplx.Abs(n)
+		pr.TiltAmp = cmplx.Abs(l.tilt.mul(y).at(0, 0)) * 180 / math.Pi
 		pr.FrequencyHz = w / (2 * math.Pi)
 	}
 	return pr
+}
+
+// interpolate is a loop's matrix at w (rad/s), each entry's magnitude and
+// phase linear in log frequency between the measured ones, held at the
+// ends.
+func (r *Response) interpolate(loops []loop, w float64, pick func(loop) cmat) cmat {
+	hz := w / (2 * math.Pi)
+	k := sort.SearchFloat64s(r.Hz, hz)
+	switch {
+	case k == 0:
+		return pick(loops[0])
+	case k == len(r.Hz):
+		return pick(loops[len(loops)-1])
+	}
+	f := math.Log(hz/r.Hz[k-1]) / math.Log(r.Hz[k]/r.Hz[k-1])
+	lo, hi := pick(loops[k-1]), pick(loops[k])
+	out := newCmat(lo.rows, lo.cols)
+	for i := range lo.v {
+		m := math.Exp((1-f)*math.Log(cmplx.Abs(lo.v[i])) + f*math.Log(cmplx.Abs(hi.v[i])))
+		ph0 := cmplx.Phase(lo.v[i])
+		ph1 := ph0 + math.Remainder(cmplx.Phase(hi.v[i])-ph0, 2*math.Pi)
+		out.v[i] = cmplx.Rect(m, (1-f)*ph0+f*ph1)
+	}
+	return out
+}
+
+func maxAbs(xs []float64) float64 {
+	m := 0.0
+	for _, x := range xs {
+		m = math.Max(m, math.Abs(x))
+	}
+	return m
+}
+
+func maxAbsC(xs []complex128) float64 {
+	m := 0.0
+	for _, x := range xs {
+		m = math.Max(m, cmplx.Abs(x))
+	}
+	return m
 }
 
 // Run predicts the backlash limit cycle of each listed screw's loop by
@@ -385,19 +509,19 @@ func Run(r *rig.Rig, spec Spec) (*Result, error) {
 	if spec.Window <= 0 || spec.Window > spec.Duration {
 		spec.Window = spec.Duration / 2
 	}
+	resp, err := Measure(r, spec.Actuators, spec.Seed)
+	if err != nil {
+		return nil, err
+	}
 	res := &Result{Backlash: spec.Backlash}
-	for _, name := range spec.Actuators {
-		resp, err := Measure(r, name, spec.Seed)
-		if err != nil {
-			return nil, err
-		}
+	for j, name := range spec.Actuators {
 		s, err := Simulate(r, name, spec)
 		if err != nil {
 			return nil, err
 		}
-		l := Loop{Prediction: resp.Predict(spec.Backlash), Sim: *s}
+		l := Loop{Prediction: resp.Alone(j, spec.Backlash), Sim: *s}
 		if s.rattles(spec.Backlash) {
-			l.Prediction = Prediction{Actuator: name, Rotary: resp.Rotary, Why: Rattles, StaticLoad: resp.StaticLoad}
+			l.Prediction = Prediction{Actuator: name, Rotary: resp.Rotary[j], Why: Rattles, StaticLoad: resp.StaticLoad[j]}
 		}
 		res.Loops = append(res.Loops, l)
 	}
@@ -405,7 +529,10 @@ func Run(r *rig.Rig, spec Spec) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	res.All = *all
+	res.All = Loop{Prediction: resp.Together(spec.Backlash), Sim: *all}
+	if all.rattles(spec.Backlash) {
+		res.All.Prediction = Prediction{Actuator: "all", Why: Rattles, StaticLoad: maxAbs(resp.StaticLoad)}
+	}
 	return res, nil
 }
 

@@ -1,10 +1,12 @@
 package wobble
 
 import (
+	"fmt"
 	"math"
 	"math/cmplx"
 	"testing"
 
+	"teeter/sim/rig"
 	"teeter/sim/study/relay"
 )
 
@@ -116,5 +118,64 @@ func TestBacklashCycleAgainstSimulation(t *testing.T) {
 	t.Logf("predicted %.4g at %.4g rad/s; simulated %.4g at %.4g rad/s over %d cycles", a, w, amp, ws, cycles)
 	if math.Abs(amp-a)/a > 0.15 || math.Abs(ws-w)/w > 0.15 {
 		t.Errorf("prediction %.4g at %.4g rad/s, simulation %.4g at %.4g rad/s", a, w, amp, ws)
+	}
+}
+
+// The describing function of backlash describes a play whose output stays
+// where the input left it until the input comes round (Gelb and Vander
+// Velde, 1968, ch. 2). On the built-in robots, with 0.2 and 1 mm of play,
+// each answer must hold against the simulation: a predicted cycle within 2x
+// in amplitude and 30 % in frequency of the simulated one; no cycle
+// predicted, a calm robot (a tilt swing under 0.05 deg with no dominant
+// line, common practice for "does not wobble"); and where the simulated
+// joint swings further than its screw, that said instead of a number.
+func TestPredictionsHoldOnTheBuiltinRobots(t *testing.T) {
+	if testing.Short() {
+		t.Skip("about half a minute of simulation")
+	}
+	cases := []struct {
+		robot  string
+		screws []string
+	}{
+		{"frontal", []string{"ankle_left", "ankle_right"}},
+		{"sagittal", []string{"ankle"}},
+	}
+	for _, c := range cases {
+		r, err := rig.Load("builtin:"+c.robot, "", "")
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, play := range []float64{0.2e-3, 1e-3} {
+			res, err := Run(r, Spec{Actuators: c.screws, Backlash: play, Duration: 20, Seed: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			loops := res.Loops
+			if len(c.screws) > 1 {
+				loops = append(loops, res.All)
+			}
+			for _, l := range loops {
+				p, s := l.Prediction, l.Sim
+				name := fmt.Sprintf("%s %s, %.1f mm", c.robot, p.Actuator, play*1e3)
+				t.Logf("%s: predicted %v %.3f deg at %.3f Hz (%s); simulated %.3f deg at %.3f Hz, dominant %v, screw %.3f mm, joint %.3f mm",
+					name, p.Found, p.TiltAmp, p.FrequencyHz, p.Why, s.TiltAmp, s.FrequencyHz, s.Dominant, s.ScrewAmp*1e3, s.OutputAmp*1e3)
+				switch {
+				case s.Fell:
+					t.Errorf("%s: the robot fell", name)
+				case p.Found:
+					if !s.Dominant || p.TiltAmp > 2*s.TiltAmp || s.TiltAmp > 2*p.TiltAmp || math.Abs(p.FrequencyHz-s.FrequencyHz) > 0.3*s.FrequencyHz {
+						t.Errorf("%s: predicted %.3f deg at %.3f Hz, simulated %.3f deg at %.3f Hz", name, p.TiltAmp, p.FrequencyHz, s.TiltAmp, s.FrequencyHz)
+					}
+				case p.Why == Rattles:
+					if !(s.OutputAmp > s.ScrewAmp) {
+						t.Errorf("%s: said to rattle, but the joint swings %.3g, its screw %.3g", name, s.OutputAmp, s.ScrewAmp)
+					}
+				default:
+					if s.Dominant && s.TiltAmp > 0.05 {
+						t.Errorf("%s: no cycle predicted (%s), simulated %.3f deg at %.3f Hz", name, p.Why, s.TiltAmp, s.FrequencyHz)
+					}
+				}
+			}
+		}
 	}
 }
