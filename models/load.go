@@ -288,6 +288,7 @@ func readJoint(w *walker, i int, v *Value, s *section) Joint {
 	w.nonNegative(o.num("stiffness", false, &j.Stiffness, stiffKind))
 	w.nonNegative(o.num("damping", false, &j.Damping, dampKind))
 	w.nonNegative(o.num("friction", false, &j.Friction, fricKind))
+	w.nonNegative(o.num("rated_load", false, &j.RatedLoad, Force))
 	o.done()
 	return j
 }
@@ -530,6 +531,7 @@ func readMotor(w *walker, o *object, a *Actuator, unitsKnown bool) []Kind {
 	w.check(o.num("nominal_voltage", false, &a.NominalVoltage, Voltage), a.NominalVoltage > 0, "must be greater than zero")
 	w.positive(o.num("no_load_speed", true, &a.NoLoadSpeed, speedKind...))
 	w.positive(o.num("stall_force", true, &a.StallForce, forceKind...))
+	w.nonNegative(o.num("rated_load", false, &a.RatedLoad, forceKind...))
 	dq := o.num("deadband", false, &a.Deadband, Dimensionless)
 	w.check(dq, a.Deadband >= 0 && a.Deadband < 1, "must be at least 0 and below 1 (a fraction of full PWM)")
 	w.nonNegative(o.num("time_constant", false, &a.TimeConstant, Duration))

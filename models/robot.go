@@ -122,6 +122,7 @@ type Joint struct {
 	Stiffness    float64 // passive spring towards Initial: N*m/rad or N/m
 	Damping      float64 // passive viscous damping: N*m*s/rad or N*s/m
 	Friction     float64 // passive Coulomb friction: N*m or N
+	RatedLoad    float64 // N: the reaction force the joint is built for; 0 is not given
 }
 
 // ActuatorKind is the drive type.
@@ -159,6 +160,7 @@ type Actuator struct {
 	NominalVoltage float64 // V at which NoLoadSpeed is measured
 	NoLoadSpeed    float64 // m/s or rad/s at full PWM and nominal voltage
 	StallForce     float64 // N or N*m: the load at which a lead screw stops; a torque motor's peak
+	RatedLoad      float64 // N or N*m: the load the actuator is built to carry; 0 is not given
 	Deadband       float64 // PWM magnitude (0..1) below which the motor does not turn
 	TimeConstant   float64 // s, first-order motor lag
 	StrokeMin      float64 // screw position limits, m or rad (for From/To: actuator length)

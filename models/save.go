@@ -117,6 +117,9 @@ func (e *emitter) joint(j *Joint) {
 	e.num(4, "stiffness", j.Stiffness)
 	e.num(4, "damping", j.Damping)
 	e.num(4, "friction", j.Friction)
+	if j.RatedLoad > 0 {
+		e.num(4, "rated_load", j.RatedLoad)
+	}
 }
 
 func (e *emitter) actuator(a *Actuator) {
@@ -134,6 +137,9 @@ func (e *emitter) actuator(a *Actuator) {
 	e.num(4, "nominal_voltage", a.NominalVoltage)
 	e.num(4, "no_load_speed", a.NoLoadSpeed)
 	e.num(4, "stall_force", a.StallForce)
+	if a.RatedLoad > 0 {
+		e.num(4, "rated_load", a.RatedLoad)
+	}
 	e.num(4, "deadband", a.Deadband)
 	e.num(4, "time_constant", a.TimeConstant)
 	e.num(4, "backlash", a.Backlash)
