@@ -8,6 +8,7 @@ import (
 	"runtime"
 	"time"
 
+	"fyne.io/fyne/v2"
 	fyneapp "fyne.io/fyne/v2/app"
 
 	"teeter/app/ui"
@@ -25,12 +26,17 @@ func cmdWindow(args []string, stdout, stderr io.Writer) error {
 	screenshot := fs.String("screenshot", "", "render the window to this PNG file and exit")
 	afterText := fs.String("after", "3s", "with --screenshot: how long to run before the picture")
 	restore := fs.Bool("restore", false, "restore the session left by a window that did not close normally, without asking")
+	sizeText := fs.String("size", "1280x800", "the window's size in pixels, WIDTHxHEIGHT")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
 	after, _, err := models.ParseQuantity(*afterText, models.Duration)
 	if err != nil || after < 0 {
 		return usageError{fmt.Errorf("--after %q: want a duration such as 3s", *afterText)}
+	}
+	var width, height float32
+	if n, err := fmt.Sscanf(*sizeText, "%gx%g", &width, &height); n != 2 || err != nil || width < 320 || height < 240 {
+		return usageError{fmt.Errorf("--size %q: want WIDTHxHEIGHT in pixels, at least 320x240, such as 1920x1080", *sizeText)}
 	}
 	if runtime.GOOS == "linux" && os.Getenv("DISPLAY") == "" && os.Getenv("WAYLAND_DISPLAY") == "" {
 		// Without this, the graphics driver panics on the first window.
@@ -39,7 +45,7 @@ func cmdWindow(args []string, stdout, stderr io.Writer) error {
 	}
 	a := fyneapp.NewWithID("org.teeter.sim")
 	w, err := ui.New(a, ui.Options{Model: *model, Gains: *gains, Run: *screenshot == "",
-		Autosave: *screenshot == "", Restore: *restore && *screenshot == ""})
+		Autosave: *screenshot == "", Restore: *restore && *screenshot == "", Size: fyne.NewSize(width, height)})
 	if err != nil {
 		return err
 	}

@@ -45,6 +45,9 @@ type Options struct {
 	Autosave bool
 	// Restore restores such a session without asking (implies Autosave).
 	Restore bool
+	// Size is the window's size at the start (default 1280 x 800, the
+	// smallest screen it is laid out for).
+	Size fyne.Size
 }
 
 // runner is the live runner the window drives.
@@ -127,6 +130,9 @@ func newWindow(a fyne.App, opts Options, build live.Build[sim.Snapshot]) (*Windo
 	w.win = a.NewWindow("teeter")
 	w.applyLook()
 	w.build()
+	if opts.Size.Width > 0 && opts.Size.Height > 0 {
+		w.win.Resize(opts.Size)
+	}
 	w.setModel(robot, opts.Model, spec)
 	if opts.Gains != "" {
 		if err := w.LoadGains(opts.Gains); err != nil {
