@@ -354,3 +354,27 @@ func TestDefaultTracesAreTheLoopsAndResetRunsOn(t *testing.T) {
 		t.Fatal("reset paused a running robot")
 	}
 }
+
+func TestSmallThingsReadRight(t *testing.T) {
+	// A pad stiffness reads 100000 N/m, not 1e+05; Help names the PID
+	// parameters (setpoint weight, derivative filter, tracking time, from
+	// the PID's usual form, control/SCHEMA.md) and shows no empty unit.
+	if got := formatValue(1e5, "N/m"); got != "100000 N/m" {
+		t.Errorf("1e5 N/m shows as %q", got)
+	}
+	h := helpText()
+	for _, want := range []string{"setpoint weight", "derivative filter time", "tracking time", "**.out**:"} {
+		if !strings.Contains(h, want) {
+			t.Errorf("Help lacks %q", want)
+		}
+	}
+	if strings.Contains(h, "()") {
+		t.Error("Help shows an empty unit ()")
+	}
+	// A trace at exactly zero spans one shown unit either side (and the
+	// margin of 8 % of the span: 1 + 0.16 deg), not a radian (-66.5 to 66.5 deg).
+	_, f := friendlyUnit("rad")
+	if lo, hi := shownRange(0, 0, f); math.Abs(lo*f+1.16) > 1e-9 || math.Abs(hi*f-1.16) > 1e-9 {
+		t.Errorf("an all-zero angle trace shows %.3g to %.3g deg", lo*f, hi*f)
+	}
+}

@@ -89,7 +89,11 @@ func formatValue(v float64, unit string) string {
 	if math.IsInf(v, 0) {
 		return "no limit"
 	}
-	s := strconv.FormatFloat(v*factor, 'g', 5, 64)
+	x := v * factor
+	s := strconv.FormatFloat(x, 'g', 5, 64)
+	if a := math.Abs(x); a >= 1e4 && a < 1e9 && x == math.Trunc(x) {
+		s = strconv.FormatFloat(x, 'f', 0, 64) // 100000 N/m, not 1e+05
+	}
 	if shown == "" {
 		return s
 	}

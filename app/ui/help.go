@@ -32,6 +32,8 @@ Press on a part of the robot, drag and release to shove it: the arrow shows the 
 
 The window shows angles in degrees, lengths in millimetres, rates in deg/s and speeds in mm/s; files and studies keep SI. Type a number with or without a unit: 2 mm, 0.5 deg, 0.01 rad, 30 mm/s. A bare number is in the unit the entry shows. Text that is not a number, is out of range or has the wrong kind of unit is refused, with the reason beside the entry, and is not applied.
 
+Robot entries set the robot as it starts: the ballast start position is where the ballast is at a reset; a ballast loop then drives it to the loop's own setpoint (a constant block in the Gains tab).
+
 ## Drawing
 
 - Orange window on an actuator: its backlash; the bar is where the output sits in it, red when it rests on an edge (driving).
@@ -45,7 +47,15 @@ The window shows angles in degrees, lengths in millimetres, rates in deg/s and s
 `)
 	for _, m := range signalMeanings {
 		// A middle dot, as markdown would read the * of N*m as emphasis.
-		fmt.Fprintf(&b, "- **%s** (%s): %s\n", m.Suffix, strings.ReplaceAll(shownUnits(m.Unit), "*", "·"), m.Meaning)
+		unit := ""
+		if m.Unit != "" {
+			unit = " (" + strings.ReplaceAll(shownUnits(m.Unit), "*", "·") + ")"
+		}
+		fmt.Fprintf(&b, "- **%s**%s: %s\n", m.Suffix, unit, m.Meaning)
+	}
+	b.WriteString("\n## PID parameters\n\n")
+	for _, p := range pidParamNames {
+		fmt.Fprintf(&b, "- **%s**: %s\n", p.Name, p.Meaning)
 	}
 	b.WriteString(`
 ## Safety
@@ -62,6 +72,31 @@ func helpContent() fyne.CanvasObject {
 	r := widget.NewRichTextFromMarkdown(helpText())
 	r.Wrapping = fyne.TextWrapWord
 	return r
+}
+
+// pidParamNames say what a PID's parameters are; the Gains tab shows the
+// short name beside each.
+var pidParamNames = []struct{ Name, Short, Meaning string }{
+	{"kp", "", "proportional gain"},
+	{"ki", "", "integral gain, per second"},
+	{"kd", "", "derivative gain, in seconds; the derivative acts on the measurement only"},
+	{"b", "setpoint weight", "setpoint weight of the proportional term, 0 to 1: below 1 a setpoint step moves the output less"},
+	{"tf", "derivative filter", "derivative filter time constant (0: no filter)"},
+	{"n", "derivative filter N", "derivative filter as a ratio: the filter time is kd/(kp·n)"},
+	{"min", "", "output's low limit"},
+	{"max", "", "output's high limit"},
+	{"tt", "tracking time", "tracking time of back-calculation anti-windup (0: from the gains)"},
+	{"on", "loop on", "the loop's switch: off, its output is 0; on again, it starts from 0"},
+}
+
+// shortPIDName is the short meaning of a PID parameter, or "".
+func shortPIDName(name string) string {
+	for _, p := range pidParamNames {
+		if p.Name == name {
+			return p.Short
+		}
+	}
+	return ""
 }
 
 // shownUnits turns a unit text such as "m or rad" into the window's units.

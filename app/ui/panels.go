@@ -27,6 +27,18 @@ type gainRow struct {
 	onOff *widget.Check
 }
 
+// blockKind is the kind of a block of the controller, or "".
+func (w *Window) blockKind(name string) string {
+	if w.spec != nil {
+		for _, b := range w.spec.Blocks {
+			if b.Name == name {
+				return b.Kind
+			}
+		}
+	}
+	return ""
+}
+
 // isLoopSwitch tells a PID's on/off parameter (control/SCHEMA.md).
 func isLoopSwitch(p control.ParamInfo, kind string) bool { return kind == "pid" && p.Name == "on" }
 
@@ -155,7 +167,11 @@ func (w *Window) newSwitchRow(p control.ParamInfo) *gainRow {
 func (row *gainRow) object(w *Window) fyne.CanvasObject {
 	p := row.info
 	back := widget.NewButtonWithIcon("", theme.HistoryIcon(), func() { w.setGain(p.Path, p.Value, false) })
-	name := widget.NewLabel(p.Name)
+	title := p.Name
+	if short := shortPIDName(p.Name); short != "" && w.blockKind(p.Block) == "pid" {
+		title += " · " + short
+	}
+	name := widget.NewLabel(title)
 	name.Truncation = fyne.TextTruncateEllipsis
 	unit, _ := friendlyUnit(p.Unit)
 	if unit == "" {
@@ -299,7 +315,7 @@ func robotParams(r *models.Robot) []robotParam {
 		out = append(out, robotParam{"Speed, " + a.Name, "actuators." + a.Name + ".no_load_speed", unitOf(a, "m/s", "rad/s")})
 	}
 	if r.Ballast != nil {
-		out = append(out, robotParam{"Ballast mass", "ballast.mass", "kg"}, robotParam{"Ballast position", "ballast.position", "m"})
+		out = append(out, robotParam{"Ballast mass", "ballast.mass", "kg"}, robotParam{"Ballast start position", "ballast.position", "m"})
 	}
 	if len(r.Feet) > 0 {
 		out = append(out, robotParam{"Pad stiffness", "feet.pad_stiffness", "N/m"},

@@ -135,19 +135,8 @@ func (tv *tracesView) draw(img *image.RGBA) {
 		if tv.hasRef {
 			scan(&tv.ref)
 		}
-		if math.IsInf(lo, 0) || math.IsNaN(lo) || math.IsNaN(hi) {
-			lo, hi = -1, 1
-		}
-		if hi-lo < 1e-9 {
-			mid := (hi + lo) / 2
-			span := math.Abs(mid) * 0.1
-			if span == 0 {
-				span = 1 // a signal at exactly zero
-			}
-			lo, hi = mid-span, mid+span
-		}
-		pad := (hi - lo) * 0.08
-		lo, hi = lo-pad, hi+pad
+		unit, f := friendlyUnit(unitOf(tv.units, tv.shown[k]))
+		lo, hi = shownRange(lo, hi, f)
 		ty := func(v float64) float64 { return bottom - (v-lo)/(hi-lo)*(bottom-top-16) }
 		hline(img, int(x0), int(x1), int(bottom+2), pal.Grid, 0)
 		if lo < 0 && hi > 0 {
@@ -160,7 +149,6 @@ func (tv *tracesView) draw(img *image.RGBA) {
 		tv.strokeSeries(img, &tv.data, k, tx, ty, col, w)
 		// Legend: name, unit, latest value and the range shown, in the
 		// window's units (degrees, millimetres); the data stay SI.
-		unit, f := friendlyUnit(unitOf(tv.units, tv.shown[k]))
 		label := tv.names[tv.shown[k]]
 		if unit != "" {
 			label += " [" + unit + "]"
@@ -173,7 +161,15 @@ func (tv *tracesView) draw(img *image.RGBA) {
 		if tv.pointer >= x0 && tv.pointer <= x1 {
 			t := t0 + (tv.pointer-x0)/(x1-x0)*(t1-t0)
 			if v, ok := valueAt(&tv.data, k, t); ok {
-				drawText(img, tv.face, fmt.Sprintf("%.4g %s at %.3f s", v*f, unit, t), tv.pointer+4, bottom-4, 0, pal.Ink)
+				// On a backing, and on the pointer's left near the right edge.
+				text := fmt.Sprintf("%.4g %s at %.3f s", v*f, unit, t)
+				tw := float64(font.MeasureString(tv.face, text)) / 64
+				x := tv.pointer + 4
+				if x+tw > float64(w)-2 {
+					x = tv.pointer - 4 - tw
+				}
+				fillRect(img, int(x)-3, int(bottom)-16, int(x+tw)+3, int(bottom), pal.Panel)
+				drawText(img, tv.face, text, x, bottom-4, 0, pal.Ink)
 			}
 		}
 	}
@@ -187,6 +183,25 @@ func (tv *tracesView) draw(img *image.RGBA) {
 	if tv.pointer >= x0 && tv.pointer <= x1 {
 		vline(img, int(tv.pointer), 0, h-int(axis), pal.Ink, 2)
 	}
+}
+
+// shownRange is the span a strip shows for data from lo to hi, with a
+// margin; f converts SI to the shown unit. A flat signal gets a tenth of
+// its value either side, and a signal at exactly zero one shown unit.
+func shownRange(lo, hi, f float64) (float64, float64) {
+	if math.IsInf(lo, 0) || math.IsNaN(lo) || math.IsNaN(hi) {
+		lo, hi = -1/f, 1/f
+	}
+	if hi-lo < 1e-9 {
+		mid := (hi + lo) / 2
+		span := math.Abs(mid) * 0.1
+		if span == 0 {
+			span = 1 / f
+		}
+		lo, hi = mid-span, mid+span
+	}
+	pad := (hi - lo) * 0.08
+	return lo - pad, hi + pad
 }
 
 // strokeSeries draws one series, reduced to the least and greatest value in

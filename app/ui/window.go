@@ -578,11 +578,33 @@ func defaultSignals(names []string, spec *control.Spec) []string {
 // chooseSignals lets the user pick the plotted signals.
 func (w *Window) chooseSignals() {
 	names := w.run.SignalNames()
-	check := widget.NewCheckGroup(names, nil)
-	check.Selected = append([]string(nil), w.shown...)
-	d := dialog.NewCustomConfirm("Signals to plot", "Show", "Cancel", container.NewVScroll(check), func(ok bool) {
+	chosen := append([]string(nil), w.shown...)
+	check := widget.NewCheckGroup(names, func(sel []string) {})
+	check.Selected = chosen
+	// The search narrows the list; what is ticked stays ticked while hidden.
+	search := widget.NewEntry()
+	search.SetPlaceHolder("search: torso, .out, command…")
+	keep := func() {
+		visible := check.Options
+		next := slices.DeleteFunc(slices.Clone(chosen), func(n string) bool { return slices.Contains(visible, n) })
+		chosen = append(next, check.Selected...)
+	}
+	search.OnChanged = func(text string) {
+		keep()
+		var opts []string
+		for _, n := range names {
+			if strings.Contains(strings.ToLower(n), strings.ToLower(strings.TrimSpace(text))) {
+				opts = append(opts, n)
+			}
+		}
+		check.Options = opts
+		check.Selected = slices.DeleteFunc(slices.Clone(chosen), func(n string) bool { return !slices.Contains(opts, n) })
+		check.Refresh()
+	}
+	d := dialog.NewCustomConfirm("Signals to plot", "Show", "Cancel", container.NewBorder(search, nil, nil, nil, container.NewVScroll(check)), func(ok bool) {
 		if ok {
-			w.shown = check.Selected
+			keep()
+			w.shown = chosen
 			w.lastNames = len(names)
 			w.lastVer = 0
 		}
