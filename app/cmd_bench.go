@@ -19,7 +19,12 @@ func cmdBench(args []string, stdout, stderr io.Writer) error {
 	model := fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file")
 	runs := fs.Int("runs", 40, "points in the sweep timed on one and on two workers")
 	asJSON := fs.Bool("json", false, "print the measurements as JSON")
+	physicsRate := fs.String("physics-rate", "", physicsRateUsage)
 	if err := parseFlags(fs, args); err != nil {
+		return err
+	}
+	rate, err := parseRate("physics-rate", *physicsRate)
+	if err != nil {
 		return err
 	}
 	if *runs < 2 {
@@ -29,6 +34,7 @@ func cmdBench(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	r.PhysicsRate = rate
 	rep, err := bench.Measure(context.Background(), r, *runs)
 	if err != nil {
 		return err

@@ -22,6 +22,7 @@ func init() {
 func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("margin", stderr)
 	rf := addRigFlags(fs)
+	rf.addPhysicsRateFlag(fs)
 	rf.addExecFlags(fs)
 	at := fs.String("at", "", "link to shove (default: the robot's fall-watch link, the torso)")
 	point := fs.String("point", "", "where on the link, x:y in the link frame (default: its centre of mass)")

@@ -18,10 +18,12 @@ func init() {
 func cmdRun(args []string, stdout, stderr io.Writer) error {
 	fs := newFlags("run", stderr)
 	rf := addRigFlags(fs)
+	rf.addPhysicsRateFlag(fs)
 	rf.addExecFlags(fs)
 	durText := fs.String("duration", "10s", "simulated time to run")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")
 	csvFile := fs.String("csv", "", "write every recorded signal to this CSV file")
+	recordRate := fs.String("record-rate", "", "record a row at this rate: the physics rate or a whole fraction of it (default: a row per control tick)")
 	asJSON := fs.Bool("json", false, "print the summary as one JSON object")
 	var shoves multiFlag
 	fs.Var(&shoves, "shove", "a shove, e.g. at=2s,impulse=3N*s,dir=left (repeatable)")
@@ -38,6 +40,9 @@ func cmdRun(args []string, stdout, stderr io.Writer) error {
 	}
 	r, err := rf.load()
 	if err != nil {
+		return err
+	}
+	if r.RecordRate, err = parseRate("record-rate", *recordRate); err != nil {
 		return err
 	}
 	start := time.Now()

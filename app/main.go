@@ -124,13 +124,14 @@ func (m *multiFlag) Set(v string) error { *m = append(*m, v); return nil }
 type rigFlags struct {
 	model, controller, gains *string
 	exec, execTimeout        *string // nil without addExecFlags
+	physicsRate              *string // nil without addPhysicsRateFlag
 }
 
 // addRigFlags declares --model, --controller and --gains.
 func addRigFlags(fs *flag.FlagSet) rigFlags {
 	return rigFlags{
 		model:      fs.String("model", "builtin:frontal", "robot: builtin:NAME or a robot file"),
-		controller: fs.String("controller", "", "controller: a file or builtin:NAME (default: the robot's own or built-in controller)"),
+		controller: fs.String("controller", "", "controller: a file, builtin:NAME or none (every screw held where it starts; default: the robot's own or built-in controller)"),
 		gains:      fs.String("gains", "", "gain set file (JSON or YAML) applied on top of the controller"),
 	}
 }
@@ -141,10 +142,38 @@ func (rf *rigFlags) addExecFlags(fs *flag.FlagSet) {
 	rf.execTimeout = fs.String("exec-timeout", "1s", "with --controller-exec: how long to wait for the program's ready line and each answer")
 }
 
+// addPhysicsRateFlag declares --physics-rate, on the commands that
+// simulate.
+func (rf *rigFlags) addPhysicsRateFlag(fs *flag.FlagSet) {
+	rf.physicsRate = fs.String("physics-rate", "", physicsRateUsage)
+}
+
+const physicsRateUsage = "physics step rate, e.g. 2kHz (default: the robot file's physics_rate, else 1 kHz)"
+
+// parseRate reads a rate flag: a frequency above zero, or "" for none (0).
+func parseRate(flag, text string) (float64, error) {
+	if text == "" {
+		return 0, nil
+	}
+	f, _, err := models.ParseQuantity(text, models.Frequency)
+	if err != nil || !(f > 0) {
+		return 0, usageError{fmt.Errorf("--%s %q: want a frequency above zero such as 2kHz", flag, text)}
+	}
+	return f, nil
+}
+
 func (rf rigFlags) load() (*rig.Rig, error) {
 	r, err := rig.Load(*rf.model, *rf.controller, *rf.gains)
-	if err != nil || rf.exec == nil || *rf.exec == "" {
-		return r, err
+	if err != nil {
+		return nil, err
+	}
+	if rf.physicsRate != nil {
+		if r.PhysicsRate, err = parseRate("physics-rate", *rf.physicsRate); err != nil {
+			return nil, err
+		}
+	}
+	if rf.exec == nil || *rf.exec == "" {
+		return r, nil
 	}
 	timeout, _, err := models.ParseQuantity(*rf.execTimeout, models.Duration)
 	if err != nil || !(timeout > 0) {

@@ -75,12 +75,25 @@ func TestPendulumPointBob(t *testing.T) {
 }
 
 func TestPendulumRod(t *testing.T) {
-	const L, m, theta = 1.0, 2.0, 0.3
-	r := pendulum(models.Shape{Kind: models.Box, Width: 0.01, Height: L, Center: models.Vec2{Y: -L / 2}}, m, theta)
-	p, err := New(r, nil, Options{})
-	if err != nil {
-		t.Fatal(err)
+	// At the default rate, at the robot file's physics_rate and at the
+	// rate the options give over it.
+	for _, tc := range []struct{ file, options, want float64 }{{0, 0, 1000}, {500, 0, 500}, {500, 2000, 2000}} {
+		const L, m, theta = 1.0, 2.0, 0.3
+		r := pendulum(models.Shape{Kind: models.Box, Width: 0.01, Height: L, Center: models.Vec2{Y: -L / 2}}, m, theta)
+		r.PhysicsRate = tc.file
+		p, err := New(r, nil, Options{PhysicsRate: tc.options})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if p.PhysicsRate() != tc.want {
+			t.Errorf("physics_rate %g Hz, options %g Hz: steps at %g Hz, want %g Hz", tc.file, tc.options, p.PhysicsRate(), tc.want)
+		}
+		testRodPeriod(t, p, L, m, theta)
 	}
+}
+
+func testRodPeriod(t *testing.T, p *Plant, L, m, theta float64) {
+	t.Helper()
 	got := period(t, p, "bob", 5)
 	// Physical pendulum T = 2 pi sqrt(I/(m g d)), rod about its end
 	// I = m L^2/3, d = L/2 (any physics textbook); the 10 mm width adds

@@ -13,12 +13,17 @@ import (
 
 // Options set up a plant. Zero values take the defaults.
 type Options struct {
-	// PhysicsRate is the fixed physics step rate, Hz (default 1000).
+	// PhysicsRate is the fixed physics step rate, Hz (default: the robot
+	// file's physics_rate, else 1000).
 	PhysicsRate float64
-	// ControlRate is the rate the controller is called and the recorder
-	// writes a row, Hz (default DefaultControlRate). It may not exceed
-	// PhysicsRate.
+	// ControlRate is the rate the controller is called and, unless
+	// RecordRate is set, the recorder writes a row, Hz (default
+	// DefaultControlRate). It may not exceed PhysicsRate.
 	ControlRate float64
+	// RecordRate, when set, is the rate the recorder writes a row, Hz,
+	// whatever the controller's: the physics rate or a whole fraction of
+	// it.
+	RecordRate float64
 	// Seed seeds every sensor's noise.
 	Seed uint64
 	// Shoves is the disturbance scenario.
@@ -67,6 +72,7 @@ type Plant struct {
 	dt        float64
 	physRate  float64
 	ctrlRate  float64
+	recEvery  int64 // physics steps per recorded row; 0: a row per controller tick
 	step      int64 // physics steps taken
 	ticks     int64 // controller ticks taken
 	links     []link
@@ -131,6 +137,9 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 	}
 	p = &Plant{robot: r, physRate: opt.PhysicsRate, ctrlRate: opt.ControlRate}
 	if p.physRate == 0 {
+		p.physRate = r.PhysicsRate
+	}
+	if p.physRate == 0 {
 		p.physRate = defaultPhysicsRate
 	}
 	if p.ctrlRate == 0 {
@@ -141,6 +150,13 @@ func New(r *models.Robot, c Controller, opt Options) (p *Plant, err error) {
 	}
 	if p.ctrlRate > p.physRate {
 		return nil, fmt.Errorf("sim: control rate %g Hz exceeds the physics rate %g Hz", p.ctrlRate, p.physRate)
+	}
+	if rr := opt.RecordRate; rr != 0 {
+		n := math.Round(p.physRate / rr)
+		if !(rr > 0) || n < 1 || math.Abs(p.physRate/rr-n) > 1e-9*n {
+			return nil, fmt.Errorf("sim: record rate %g Hz must be the physics rate %g Hz or a whole fraction of it", rr, p.physRate)
+		}
+		p.recEvery = int64(n)
 	}
 	if opt.RecordCapacity < 0 {
 		return nil, fmt.Errorf("sim: record capacity %d is negative", opt.RecordCapacity)
@@ -555,6 +571,11 @@ func (p *Plant) Step() (err error) {
 			}
 			p.acts[i].command = c
 		}
+		if p.recEvery == 0 {
+			p.record(now)
+		}
+	}
+	if p.recEvery > 0 && p.step%p.recEvery == 0 {
 		p.record(now)
 	}
 	p.applyShoves(now)

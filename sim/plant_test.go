@@ -421,3 +421,30 @@ func TestGroundStep(t *testing.T) {
 		t.Errorf("block on the step at y = %.5f m, want %.5f m", y, want)
 	}
 }
+
+func TestRecordRate(t *testing.T) {
+	// Rows at the record rate, whatever the controller's (a sampling rate
+	// of f Hz is a row every 1/f s, by definition); a rate that is no whole
+	// fraction of the physics rate is refused.
+	for _, rate := range []float64{1000, 250} {
+		p, err := New(stick(0, 0), nil, Options{ControlRate: 100, RecordRate: rate})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := p.RunFor(0.5); err != nil {
+			t.Fatal(err)
+		}
+		tm := p.Recorder().Column("time")
+		if len(tm) != int(0.5*rate) {
+			t.Errorf("record rate %g Hz: %d rows in 0.5 s, want %g", rate, len(tm), 0.5*rate)
+		}
+		for i := 1; i < len(tm); i++ {
+			if math.Abs(tm[i]-tm[i-1]-1/rate) > 1e-12 {
+				t.Fatalf("record rate %g Hz: rows %d and %d are %g s apart", rate, i-1, i, tm[i]-tm[i-1])
+			}
+		}
+	}
+	if _, err := New(stick(0, 0), nil, Options{RecordRate: 300}); err == nil {
+		t.Error("a record rate of 300 Hz at 1 kHz physics was taken")
+	}
+}

@@ -53,6 +53,9 @@ func keep[T any](at *T) restorer { return kept[T]{at, *at} }
 // which the recorder holds, so Save fails once a bounded recorder has
 // dropped rows.
 func (p *Plant) Save() (*Saved, error) {
+	if p.recEvery > 0 {
+		return nil, fmt.Errorf("sim: cannot save a plant that records at its own rate (%g Hz): the controller is replayed from a row per tick", p.physRate/float64(p.recEvery))
+	}
 	if int64(p.rec.n) != p.ticks {
 		return nil, fmt.Errorf("sim: cannot save at %.3f s: the recorder has dropped the rows the controller's replay needs", p.Time())
 	}

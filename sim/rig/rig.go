@@ -28,6 +28,25 @@ type Rig struct {
 	// at ControlRate, and the gains are sent to it as parameter changes
 	// before its first tick.
 	Program *Program
+	// PhysicsRate, when set, is the physics step rate of every plant built,
+	// Hz, over the robot file's physics_rate (default 1 kHz).
+	PhysicsRate float64
+	// RecordRate, when set, is the rate of the recording's rows, Hz: the
+	// physics rate or a whole fraction of it; else a row per control tick.
+	RecordRate float64
+}
+
+// NoController is what Load takes for "no controller": every screw is held
+// where it starts.
+const NoController = "none"
+
+// Notice says what a user should know before running the rig, or "": that
+// nothing drives a robot without a controller.
+func (r *Rig) Notice() string {
+	if r.Spec == nil && r.Program == nil {
+		return fmt.Sprintf("robot %s runs without a controller: every screw is held where it starts, so nothing balances it", r.Robot.Name)
+	}
+	return ""
 }
 
 // Program is a controller program run in the loop over the line protocol
@@ -38,9 +57,9 @@ type Program struct {
 }
 
 // Load loads a robot (a file or builtin:NAME) and finds its controller:
-// controllerFile if given (a file or builtin:NAME), else the robot's own
-// (see ControllerSection). gainsFile, if given, is a gain set applied on
-// top.
+// controllerFile if given (a file, builtin:NAME or NoController), else the
+// robot's own (see ControllerSection). gainsFile, if given, is a gain set
+// applied on top.
 func Load(model, controllerFile, gainsFile string) (*Rig, error) {
 	robot, err := models.Load(model)
 	if err != nil {
@@ -48,6 +67,7 @@ func Load(model, controllerFile, gainsFile string) (*Rig, error) {
 	}
 	r := &Rig{Robot: robot}
 	switch {
+	case controllerFile == NoController:
 	case strings.HasPrefix(controllerFile, "builtin:"):
 		r.Spec, err = control.Builtin(strings.TrimPrefix(controllerFile, "builtin:"))
 	case controllerFile != "":
@@ -154,7 +174,8 @@ func (r *Rig) ControlRate() float64 {
 }
 
 // Build makes a fresh plant and controller. The controller ticks at
-// ControlRate unless opt sets a rate. A controller program started for the
+// ControlRate, the physics at PhysicsRate and the recording at RecordRate
+// unless opt sets them. A controller program started for the
 // plant is killed once the plant is dropped; the graph is nil then.
 func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
 	p, g, _, err := r.build(opt)
@@ -166,6 +187,12 @@ func (r *Rig) Build(opt sim.Options) (*sim.Plant, *control.Graph, error) {
 func (r *Rig) build(opt sim.Options) (*sim.Plant, *control.Graph, *sil.Controller, error) {
 	if opt.ControlRate == 0 {
 		opt.ControlRate = r.ControlRate()
+	}
+	if opt.PhysicsRate == 0 {
+		opt.PhysicsRate = r.PhysicsRate
+	}
+	if opt.RecordRate == 0 {
+		opt.RecordRate = r.RecordRate
 	}
 	if r.Program != nil {
 		prog, err := r.startProgram(opt.ControlRate)
