@@ -13,6 +13,7 @@
 //	teeter relay   a relay test of one PID block, with tuning rules
 //	teeter modes   closed-loop modes of the standing robot
 //	teeter wobble  the backlash limit cycle, predicted and simulated
+//	teeter loads   peak loads on actuators and joints over a campaign of shoves
 //	teeter fit     fit robot parameters to a log recorded on the robot
 //	teeter bench   speed measurements
 //
