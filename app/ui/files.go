@@ -14,6 +14,7 @@ import (
 	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/driver/desktop"
 	"fyne.io/fyne/v2/driver/software"
+	"fyne.io/fyne/v2/storage"
 
 	"teeter/control"
 	"teeter/models"
@@ -77,7 +78,7 @@ func (w *Window) menu() *fyne.MainMenu {
 		save,
 		fyne.NewMenuItem("Save robot as…", w.saveRobotAs),
 		fyne.NewMenuItemSeparator(),
-		fyne.NewMenuItem("Load gains…", func() { w.openFile(w.LoadGains) }),
+		fyne.NewMenuItem("Load gains…", func() { w.openFile(w.LoadGains, ".yaml", ".yml", ".json") }),
 		fyne.NewMenuItem("Save gains…", func() { w.saveFile("gains.yaml", w.SaveGains) }),
 		fyne.NewMenuItem("Export firmware header…", func() { w.saveFile("gains.h", w.ExportHeader) }),
 		fyne.NewMenuItemSeparator(),
@@ -114,10 +115,12 @@ func (w *Window) report(title string, err error) {
 }
 
 func (w *Window) openDialog() {
-	w.openFile(w.OpenRobot)
+	w.openFile(w.OpenRobot, ".yaml", ".yml")
 }
 
-func (w *Window) openFile(do func(string) error) {
+// openFile asks for a file to open, of the given extensions (any when
+// none), in a dialog large enough to show a good part of a folder.
+func (w *Window) openFile(do func(string) error, exts ...string) {
 	d := dialog.NewFileOpen(func(r fyne.URIReadCloser, err error) {
 		if err != nil || r == nil {
 			return
@@ -126,7 +129,18 @@ func (w *Window) openFile(do func(string) error) {
 		r.Close()
 		do(path)
 	}, w.win)
+	if len(exts) > 0 {
+		d.SetFilter(storage.NewExtensionFileFilter(exts))
+	}
+	d.Resize(fileDialogSize(w.win))
 	d.Show()
+}
+
+// fileDialogSize is most of the window: fyne's own dialog size shows three
+// or four rows of files.
+func fileDialogSize(win fyne.Window) fyne.Size {
+	s := win.Canvas().Size()
+	return fyne.NewSize(s.Width*0.8, s.Height*0.85)
 }
 
 func (w *Window) saveFile(name string, do func(string) error) {
@@ -143,6 +157,7 @@ func (w *Window) saveFile(name string, do func(string) error) {
 		w.notice.SetText("Wrote " + path)
 	}, w.win)
 	d.SetFileName(name)
+	d.Resize(fileDialogSize(w.win))
 	d.Show()
 }
 
