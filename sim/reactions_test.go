@@ -1,33 +1,20 @@
 package sim
 
 import (
-	"fmt"
 	"math"
 	"testing"
 
 	"teeter/models"
 )
 
-// hangingArm is a 2 kg arm hanging from a base fixed to the world through
-// a revolute joint 150 mm above its centre of mass, held at an angle by a
-// rigid rotary lead screw that is never commanded.
+// hangingArm is testdata/hanging_arm.yaml with its arm held at deg.
 func hangingArm(t *testing.T, deg float64) *Plant {
 	t.Helper()
-	r, err := models.Parse("arm.yaml", []byte(`
-name: arm
-plane: sagittal
-root: base
-links:
-  - {name: base, shape: {box: {width: 400 mm, height: 100 mm}}, mass: 10 kg, position: [0, 50 mm], fixed: true}
-  - {name: arm, shape: {capsule: {length: 300 mm, radius: 10 mm}}, mass: 2 kg}
-joints:
-  - {name: pivot, kind: revolute, parent: base, child: arm, parent_anchor: [0, 600 mm], child_anchor: [0, 150 mm], limits: [-90 deg, 90 deg], initial: `+fmt.Sprintf("%g deg", deg)+`}
-actuators:
-  - {name: pivot, kind: lead_screw, joint: pivot, no_load_speed: 30 rpm, stall_force: 100 N*m}
-fall:
-  torso_link: base
-`))
+	r, err := models.Load("../testdata/hanging_arm.yaml")
 	if err != nil {
+		t.Fatal(err)
+	}
+	if err := models.SetParam(r, "joints.pivot.initial", deg*math.Pi/180); err != nil {
 		t.Fatal(err)
 	}
 	p, err := New(r, nil, Options{})

@@ -1,7 +1,6 @@
 package loads
 
 import (
-	"fmt"
 	"math"
 	"testing"
 
@@ -12,26 +11,13 @@ import (
 )
 
 func TestPeaksOfAHangingLoad(t *testing.T) {
-	// A 2 kg arm hanging from a base fixed to the world, held at 30 deg by
-	// a rigid screw: at rest its pin carries m g and its screw the moment
+	// testdata/hanging_arm.yaml: a 2 kg arm hanging from a base fixed to
+	// the world, held at 30 deg by a rigid screw: at rest its pin carries m g and its screw the moment
 	// m g d sin(theta) (statics, Meriam and Kraige, Engineering Mechanics:
 	// Statics, ch. 3), so those are the campaign's peaks for a run with no
 	// shove, and the screw's share of its 10 N*m rating is that over 10.
 	const m, d, theta, rated = 2.0, 0.150, 30 * math.Pi / 180, 10.0
-	r, err := models.Parse("arm.yaml", []byte(fmt.Sprintf(`
-name: arm
-plane: sagittal
-root: base
-links:
-  - {name: base, shape: {box: {width: 400 mm, height: 100 mm}}, mass: 10 kg, position: [0, 50 mm], fixed: true}
-  - {name: arm, shape: {capsule: {length: 300 mm, radius: 10 mm}}, mass: 2 kg}
-joints:
-  - {name: pivot, kind: revolute, parent: base, child: arm, parent_anchor: [0, 600 mm], child_anchor: [0, 150 mm], limits: [-90 deg, 90 deg], initial: 30 deg, rated_load: 50 N}
-actuators:
-  - {name: screw, kind: lead_screw, joint: pivot, no_load_speed: 30 rpm, stall_force: 100 N*m, rated_load: %g N*m}
-fall:
-  torso_link: base
-`, rated)))
+	r, err := models.Load("../../../testdata/hanging_arm.yaml")
 	if err != nil {
 		t.Fatal(err)
 	}
