@@ -166,7 +166,7 @@ var scaleBars = []float64{5, 10, 20, 50, 100, 200, 500, 1000, 2000}
 // drawKey marks the view's scale and which way it looks: a bar of a round
 // length at the top left, and at the top right whether the robot is seen
 // from behind (frontal: its left on the left) or from the side (sagittal:
-// forward to the right).
+// forward to the right; the text font has no arrow glyph).
 func drawKey(dc *gg.Context, sc *scene, v view) {
 	mm := scaleBars[len(scaleBars)-1]
 	for _, l := range scaleBars {
@@ -189,7 +189,7 @@ func drawKey(dc *gg.Context, sc *scene, v view) {
 	case models.Frontal:
 		label = "seen from behind"
 	case models.Sagittal:
-		label = "forward →"
+		label = "forward ->"
 	}
 	if label != "" {
 		dc.DrawStringAnchored(label, float64(v.W)-14, y0, 1, 0.35)

@@ -507,8 +507,9 @@ func (w *Window) showBanner(text string) {
 }
 
 // blockUnits fills in the units the recorder does not know for the
-// controller's signals: a sensor block's is its channel's, a PID's outputs
-// are in the unit of its limits (a loop without limits stays bare).
+// controller's signals: a sensor block's is its channel's, a filter's its
+// input's, a PID's outputs are in the unit of its limits (a loop without
+// limits stays bare).
 func blockUnits(spec *control.Spec, names, units []string) []string {
 	if spec == nil {
 		return units
@@ -522,6 +523,10 @@ func blockUnits(spec *control.Spec, names, units []string) []string {
 		switch b.Kind {
 		case "sensor":
 			of[b.Name+".out"] = of[b.Options["channel"]]
+		case "tilt_filter", "lowpass", "rate_limit", "limit", "deadband", "delay":
+			// Filters keep their input's unit (a tilt filter its angle's).
+			in := b.Inputs[len(b.Inputs)-1].Source
+			of[b.Name+".out"] = of[signalOf(spec, in)]
 		case "pid":
 			for _, p := range b.Params {
 				if p.Name == "min" {
