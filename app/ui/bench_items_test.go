@@ -210,7 +210,8 @@ func TestUndoRedoKeysWinOverAFocusedEntry(t *testing.T) {
 }
 
 func TestBuiltinRobotsComeWithTheirControllers(t *testing.T) {
-	// Every built-in robot is on the File menu and runs with its own
+	// Every built-in robot is on the File menu and the robot chooser, and
+	// runs with its own
 	// controller (DEVELOPERS.md: one built-in controller per built-in
 	// robot); a robot file without a controller says every screw is held
 	// and offers the built-in controller that fits it.
@@ -238,6 +239,11 @@ func TestBuiltinRobotsComeWithTheirControllers(t *testing.T) {
 		}
 	}
 
+	// The robot chooser beside the stepping buttons opens a built-in too.
+	w.robotSel.SetSelected("pendulum")
+	if w.robot.Source != "builtin:pendulum" || w.spec == nil {
+		t.Fatalf("the robot chooser opened %s", w.robot.Source)
+	}
 	if err := w.OpenRobot("../../models/builtin/sagittal.yaml"); err != nil {
 		t.Fatal(err)
 	}

@@ -79,6 +79,10 @@ type Window struct {
 	runBtn  *widget.Button
 	speed   *widget.Select
 	stepBox *fyne.Container // start and stop buttons of the controller's sequences
+	// robotSel picks a built-in robot; showingModel is set while it is
+	// moved to the robot just opened.
+	robotSel     *widget.Select
+	showingModel bool
 
 	tabs      *container.AppTabs
 	gainRows  map[string]*gainRow
@@ -276,7 +280,14 @@ func (w *Window) build() {
 	plots := container.NewBorder(plotBar, nil, nil, nil, w.traces)
 	split := container.NewVSplit(robotArea, plots)
 	split.Offset = 0.55
-	left := container.NewBorder(bar, container.NewBorder(nil, nil, w.stepBox, nil, w.notice), nil, nil, split)
+	// The built-in robots, each with its own controller, always at hand.
+	w.robotSel = widget.NewSelect(models.BuiltinNames(), func(name string) {
+		if !w.showingModel && name != "" {
+			w.OpenRobot("builtin:" + name)
+		}
+	})
+	w.robotSel.PlaceHolder = "robot file"
+	left := container.NewBorder(bar, container.NewBorder(nil, nil, container.NewHBox(w.robotSel, w.stepBox), nil, w.notice), nil, nil, split)
 
 	w.gainBox = container.NewVBox()
 	w.blockBox = container.NewVBox()
@@ -427,6 +438,13 @@ func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
 		title = path
 	}
 	w.win.SetTitle("teeter — " + title)
+	w.showingModel = true
+	if name, ok := strings.CutPrefix(r.Source, "builtin:"); ok {
+		w.robotSel.SetSelected(name)
+	} else {
+		w.robotSel.ClearSelected()
+	}
+	w.showingModel = false
 	blocks, _ := w.gainBlocks()
 	w.study.setRobot(r, w.params, blocks)
 	w.autosave()
