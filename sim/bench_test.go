@@ -72,7 +72,7 @@ func bareSpace(p *Plant) *cp.Space {
 		c := pd.rest
 		verts := []cp.Vector{{X: c.X - w, Y: c.Y - h}, {X: c.X + w, Y: c.Y - h}, {X: c.X + w, Y: c.Y + h}, {X: c.X - w, Y: c.Y + h}}
 		sh := cp.NewPolyShapeRaw(foot, 4, verts, 0)
-		sh.SetFriction(pd.edges[0].friction)
+		sh.SetFriction(pd.contact.edges[0].friction)
 		sh.SetFilter(cp.NewShapeFilter(1, cp.ALL_CATEGORIES, cp.ALL_CATEGORIES))
 		s.AddShape(sh)
 	}

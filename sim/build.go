@@ -59,7 +59,7 @@ type pad struct {
 	rest             cp.Vector // pad centre fully extended, in the foot's body frame
 	width, thickness float64
 	travel           float64
-	edges            [2]*padContact // the -x and +x ends of the width
+	contact          *padContact
 	// Results of the last step: the compression at the pad's centre (the
 	// mean of its edges', past the travel when the stop is pressed), the
 	// normal force and the end stop's share of it.

@@ -47,13 +47,14 @@ func (c *coord) measure() float64 {
 	return dist
 }
 
-// at is q with the bodies at (pa, aa) and (pb, ab).
-func (c *coord) at(pa cp.Vector, aa float64, pb cp.Vector, ab float64) float64 {
+// at is q with the bodies at pa and pb turned by ta and tb from where
+// they are.
+func (c *coord) at(pa cp.Vector, ta float64, pb cp.Vector, tb float64) float64 {
 	if c.geometry == limitAngle {
-		return ab - aa
+		return c.b.Angle() + tb - c.a.Angle() - ta
 	}
-	ra := cp.ForAngle(aa)
-	d := pb.Add(cp.ForAngle(ab).Rotate(c.anchorB)).Sub(pa.Add(ra.Rotate(c.anchorA)))
+	ra := turned(c.a.Rotation(), ta)
+	d := pb.Add(turned(c.b.Rotation(), tb).Rotate(c.anchorB)).Sub(pa.Add(ra.Rotate(c.anchorA)))
 	if c.geometry == limitAxis {
 		return d.Dot(ra.Rotate(c.axis))
 	}
@@ -66,9 +67,15 @@ func (c *coord) at(pa cp.Vector, aa float64, pb cp.Vector, ab float64) float64 {
 // whose removal takes kinetic energy. Call after measure.
 func (c *coord) drift(q, dt float64) float64 {
 	a, b := c.a, c.b
-	next := c.at(a.Position().Add(a.Velocity().Mult(dt)), a.Angle()+a.AngularVelocity()*dt,
-		b.Position().Add(b.Velocity().Mult(dt)), b.Angle()+b.AngularVelocity()*dt)
+	next := c.at(a.Position().Add(a.Velocity().Mult(dt)), a.AngularVelocity()*dt,
+		b.Position().Add(b.Velocity().Mult(dt)), b.AngularVelocity()*dt)
 	return next - q - c.velocity()*dt
+}
+
+// turned is the rotation rot turned further by phi, a step's turn.
+func turned(rot cp.Vector, phi float64) cp.Vector {
+	s, c := sinCos(phi)
+	return rot.Rotate(cp.Vector{X: c, Y: s})
 }
 
 // invMass is the inverse effective mass along q.

@@ -20,9 +20,10 @@ func mechanicalEnergy(p *Plant) float64 {
 		e += 0.5*b.Mass()*v.Dot(v) + 0.5*b.Moment()*w*w + b.Mass()*Gravity*b.Position().Y
 	}
 	for i := range p.pads {
-		for _, c := range p.pads[i].edges {
-			if d, _ := c.ground.depth(c.point()); d > 0 {
-				e += 0.5 * c.stiffness * d * d
+		c := p.pads[i].contact
+		for k := range c.edges {
+			if d, _ := c.ground.depth(c.point(&c.edges[k])); d > 0 {
+				e += 0.5 * c.edges[k].stiffness * d * d
 			}
 		}
 	}
@@ -247,9 +248,11 @@ func TestFrictionlessDoublePendulumKeepsItsEnergy(t *testing.T) {
 func stopEnergy(p *Plant) float64 {
 	e := 0.0
 	for i := range p.pads {
-		for _, c := range p.pads[i].edges {
-			if d, _ := c.ground.depth(c.point()); d > c.travel {
-				e += 0.5 * stopStiffness * c.stiffness * (d - c.travel) * (d - c.travel)
+		c := p.pads[i].contact
+		for k := range c.edges {
+			ed := &c.edges[k]
+			if d, _ := c.ground.depth(c.point(ed)); d > ed.travel {
+				e += 0.5 * stopStiffness * ed.stiffness * (d - ed.travel) * (d - ed.travel)
 			}
 		}
 	}

@@ -243,8 +243,9 @@ func TestTiltedRobotStartsWithItsPadsOnTheGround(t *testing.T) {
 		}
 		deepest := math.Inf(-1)
 		for i := range p.pads {
-			for _, c := range p.pads[i].edges {
-				d, _ := c.ground.depth(c.point())
+			c := p.pads[i].contact
+			for k := range c.edges {
+				d, _ := c.ground.depth(c.point(&c.edges[k]))
 				deepest = math.Max(deepest, d)
 			}
 		}

@@ -30,20 +30,20 @@ const (
 	stopStiffness = 100
 )
 
-// padContact is one edge of a pad pressing its foot against the ground.
-// A pad is two of them, at the bottom corners of its width, so that it
-// rolls onto an edge and its centre of pressure moves across the width up
-// to the outer edge before the foot tips. Each edge carries half the pad's
-// spring and damper (flat on the ground the pair is the pad: stiffness k,
-// damping c, and the tilting stiffness k w^2/4 of a spring spread across
-// the width's ends), an end stop of its own once the free travel is used
-// up (stopStiffness times its spring, critically damped, solved implicitly:
-// stable at any stiffness, and it takes an impact's approach speed), and
-// Coulomb friction of the pad's coefficient on its own normal
-// force (the pair's friction bound is the coefficient times the pad's
-// load). The pad is massless and part of its foot (its mass is added to
-// the foot's). The depth is how far the fully extended edge would be
-// below the ground.
+// padContact is a pad pressing its foot against the ground at the two
+// ends of its width (edges), so that it rolls onto an edge and its centre
+// of pressure moves across the width up to the outer edge before the foot
+// tips. Each edge carries half the pad's spring and damper (flat on the
+// ground the pair is the pad: stiffness k, damping c, and the tilting
+// stiffness k w^2/4 of a spring spread across the width's ends), an end
+// stop of its own once the free travel is used up (stopStiffness times its
+// spring, critically damped, solved implicitly: stable at any stiffness,
+// and it takes an impact's approach speed), and Coulomb friction of the
+// pad's coefficient on its own normal force (the pair's friction bound is
+// the coefficient times the pad's load). The pad is massless and part of
+// its foot (its mass is added to the foot's). The two edges are one
+// constraint, solved in turn on the foot's velocity held locally and
+// applied once: each cp body setter is a call.
 //
 // Why not a pad body on a groove: a light pad under a heavy robot is a
 // mass ratio of a thousand across the groove, which Gauss-Seidel does not
@@ -56,8 +56,14 @@ const (
 // rigid stop added energy at every hard landing.
 type padContact struct {
 	*cp.Constraint
-	foot                     *cp.Body
-	ground                   *ground
+	foot       *cp.Body
+	ground     *ground
+	edges      [2]padEdge // the -x and +x ends of the width
+	mInv, iInv float64
+}
+
+// padEdge is one end of a pad's width.
+type padEdge struct {
 	bottom                   cp.Vector // body-local: the edge's bottom corner fully extended
 	stiffness, damping       float64
 	travel, friction         float64
@@ -72,132 +78,162 @@ type padContact struct {
 	js, jd, jh, jt           float64 // spring, damper, stop and friction impulses
 }
 
-// newPadContact is the edge at bottom of pad m, carrying share of its
-// spring and damper.
-func newPadContact(foot, static *cp.Body, g *ground, bottom cp.Vector, m *models.Pad, share float64) *padContact {
-	c := &padContact{foot: foot, ground: g, bottom: bottom, stiffness: share * m.Stiffness, damping: share * m.Damping,
-		travel: m.Travel, friction: m.Friction}
+// newPadContact is pad m, its bottom corners (fully extended) at left and
+// right in the foot's body frame, each carrying half its spring and damper.
+func newPadContact(foot, static *cp.Body, g *ground, left, right cp.Vector, m *models.Pad) *padContact {
+	c := &padContact{foot: foot, ground: g}
+	for k, bottom := range [2]cp.Vector{left, right} {
+		c.edges[k] = padEdge{bottom: bottom, stiffness: m.Stiffness / 2, damping: m.Damping / 2,
+			travel: m.Travel, friction: m.Friction}
+	}
 	c.Constraint = cp.NewConstraint(c, foot, static)
 	return c
 }
 
 func (c *padContact) PreStep(dt float64) {
 	b := c.foot
-	p := b.LocalToWorld(c.bottom)
+	c.mInv, c.iInv = 1/b.Mass(), 1/b.Moment()
+	v, w := b.Velocity(), b.AngularVelocity()
+	for k := range c.edges {
+		c.edges[k].preStep(c, dt, &v, &w)
+	}
+	b.SetVelocityVector(v)
+	b.SetAngularVelocity(w)
+}
+
+// preStep measures the edge and applies its spring to the foot's velocity
+// (v, w).
+func (e *padEdge) preStep(c *padContact, dt float64, v *cp.Vector, w *float64) {
+	b := c.foot
+	p := b.LocalToWorld(e.bottom)
 	d, n := c.ground.depth(p)
-	c.depth = d
-	c.js = 0
-	gap := c.travel - d // left before the stop
-	c.active = d > -contactMargin
-	c.touching = d > 0
-	c.atStop = gap < contactMargin
-	if !c.active {
-		c.jd, c.jh, c.jt = 0, 0, 0
+	e.depth = d
+	e.js = 0
+	gap := e.travel - d // left before the stop
+	e.active = d > -contactMargin
+	e.touching = d > 0
+	e.atStop = gap < contactMargin
+	if !e.active {
+		e.jd, e.jh, e.jt = 0, 0, 0
 		return
 	}
-	c.r, c.n = p.Sub(b.Position()), n
-	rn, rt := c.r.Cross(n), c.r.Cross(n.Perp())
-	mInv, iInv := 1/b.Mass(), 1/b.Moment()
-	kn := mInv + rn*rn*iInv
-	c.knn, c.knt, c.ktt = kn, rn*rt*iInv, mInv+rt*rt*iInv
-	c.nMass = 1 / kn
-	c.tMass = 1 / c.ktt
-	if c.touching {
+	e.r, e.n = p.Sub(b.Position()), n
+	rn, rt := e.r.Cross(n), e.r.Cross(n.Perp())
+	kn := c.mInv + rn*rn*c.iInv
+	e.knn, e.knt, e.ktt = kn, rn*rt*c.iInv, c.mInv+rt*rt*c.iInv
+	e.nMass = 1 / kn
+	e.tMass = 1 / e.ktt
+	if e.touching {
 		// Spring: explicit, applied now.
-		c.js = c.stiffness * d * dt
-		c.impulse(c.n.Mult(c.js))
-		if c.damping > 0 {
+		e.js = e.stiffness * d * dt
+		c.push(e, e.n.Mult(e.js), v, w)
+		if e.damping > 0 {
 			// Damper: implicit, as a soft constraint without stiffness.
-			c.dampGamma = 1 / (dt * c.damping)
-			c.dampMass = 1 / (kn + c.dampGamma)
+			e.dampGamma = 1 / (dt * e.damping)
+			e.dampMass = 1 / (kn + e.dampGamma)
 		}
 	} else {
-		c.jd = 0
+		e.jd = 0
 	}
-	if c.atStop {
-		c.stopSoft = gap < 0
-		if !c.stopSoft {
-			c.stopBias = -gap / dt // may approach the stop by the gap, no faster
+	if e.atStop {
+		e.stopSoft = gap < 0
+		if !e.stopSoft {
+			e.stopBias = -gap / dt // may approach the stop by the gap, no faster
 		} else {
 			// Implicit Euler of f = -ks gap - cs gap' along n (Catto, "Soft
 			// constraints", GDC 2011), one-sided.
-			ks := stopStiffness * c.stiffness
-			d := 2*math.Sqrt(ks*c.nMass) + dt*ks
-			c.stopGamma = 1 / (dt * d)
-			c.stopBias = gap * ks / d
-			c.stopMass = 1 / (kn + c.stopGamma)
+			ks := stopStiffness * e.stiffness
+			d := 2*math.Sqrt(ks*e.nMass) + dt*ks
+			e.stopGamma = 1 / (dt * d)
+			e.stopBias = gap * ks / d
+			e.stopMass = 1 / (kn + e.stopGamma)
 		}
 	} else {
-		c.jh = 0
+		e.jh = 0
 	}
 }
 
-func (c *padContact) impulse(j cp.Vector) {
-	b := c.foot
-	b.SetVelocityVector(b.Velocity().Add(j.Mult(1 / b.Mass())))
-	b.SetAngularVelocity(b.AngularVelocity() + c.r.Cross(j)/b.Moment())
+// push adds the impulse j at edge e to the foot's velocity (v, w).
+func (c *padContact) push(e *padEdge, j cp.Vector, v *cp.Vector, w *float64) {
+	*v = v.Add(j.Mult(c.mInv))
+	*w += e.r.Cross(j) * c.iInv
 }
 
 func (c *padContact) ApplyCachedImpulse(dtCoef float64) {
-	if !c.active {
-		return
-	}
-	c.jd *= dtCoef
-	c.jh *= dtCoef
-	c.jt *= dtCoef
-	c.impulse(c.n.Rotate(cp.Vector{X: c.jd + c.jh, Y: c.jt}))
-}
-
-// ApplyImpulse solves the damper, the stop and friction in turn, tracking
-// the contact point's velocity through the effective-mass matrix and
-// applying the sum once: each cp body setter is a call.
-func (c *padContact) ApplyImpulse(dt float64) {
-	if !c.active {
-		return
-	}
 	b := c.foot
-	vr := b.Velocity().Add(c.r.Perp().Mult(b.AngularVelocity()))
-	vn, vt := vr.Dot(c.n), vr.Dot(c.n.Perp())
-	var dn, dt2 float64 // impulse changes along n and t
-	if c.touching && c.damping > 0 {
-		old := c.jd
-		// The pad cannot pull: spring and damper together push or nothing.
-		c.jd = old - c.dampMass*(vn+c.dampGamma*old)
-		if c.jd < -c.js {
-			c.jd = -c.js
+	v, w := b.Velocity(), b.AngularVelocity()
+	for k := range c.edges {
+		e := &c.edges[k]
+		if !e.active {
+			continue
 		}
-		d := c.jd - old
-		dn += d
-		vn += c.knn * d
-		vt += c.knt * d
+		e.jd *= dtCoef
+		e.jh *= dtCoef
+		e.jt *= dtCoef
+		c.push(e, e.n.Rotate(cp.Vector{X: e.jd + e.jh, Y: e.jt}), &v, &w)
 	}
-	if c.atStop {
-		old := c.jh
-		if c.stopSoft {
-			c.jh = old - c.stopMass*(vn+c.stopBias+c.stopGamma*old)
-		} else {
-			c.jh = old + (c.stopBias-vn)*c.nMass
-		}
-		if c.jh < 0 {
-			c.jh = 0
-		}
-		d := c.jh - old
-		dn += d
-		vn += c.knn * d
-		vt += c.knt * d
-	}
-	max := c.friction * (c.js + c.jd + c.jh)
-	old := c.jt
-	c.jt = cp.Clamp(old-vt*c.tMass, -max, max)
-	dt2 = c.jt - old
-	c.impulse(c.n.Rotate(cp.Vector{X: dn, Y: dt2}))
+	b.SetVelocityVector(v)
+	b.SetAngularVelocity(w)
 }
 
-// GetImpulse is the normal impulse of the last step.
-func (c *padContact) GetImpulse() float64 { return c.js + c.jd + c.jh }
+// ApplyImpulse solves each edge's damper, stop and friction in turn.
+func (c *padContact) ApplyImpulse(dt float64) {
+	b := c.foot
+	v, w := b.Velocity(), b.AngularVelocity()
+	for k := range c.edges {
+		if e := &c.edges[k]; e.active {
+			c.push(e, e.solve(v, w), &v, &w)
+		}
+	}
+	b.SetVelocityVector(v)
+	b.SetAngularVelocity(w)
+}
 
-// point is the contact point, world.
-func (c *padContact) point() cp.Vector { return c.foot.LocalToWorld(c.bottom) }
+// solve returns the edge's impulse change with the foot moving at (v, w),
+// tracking the edge's velocity through its effective-mass matrix between
+// the damper, the stop and friction.
+func (e *padEdge) solve(v cp.Vector, w float64) cp.Vector {
+	vr := v.Add(e.r.Perp().Mult(w))
+	vn, vt := vr.Dot(e.n), vr.Dot(e.n.Perp())
+	var dn float64 // impulse change along n
+	if e.touching && e.damping > 0 {
+		old := e.jd
+		// The pad cannot pull: spring and damper together push or nothing.
+		e.jd = old - e.dampMass*(vn+e.dampGamma*old)
+		if e.jd < -e.js {
+			e.jd = -e.js
+		}
+		d := e.jd - old
+		dn += d
+		vn += e.knn * d
+		vt += e.knt * d
+	}
+	if e.atStop {
+		old := e.jh
+		if e.stopSoft {
+			e.jh = old - e.stopMass*(vn+e.stopBias+e.stopGamma*old)
+		} else {
+			e.jh = old + (e.stopBias-vn)*e.nMass
+		}
+		if e.jh < 0 {
+			e.jh = 0
+		}
+		d := e.jh - old
+		dn += d
+		vn += e.knn * d
+		vt += e.knt * d
+	}
+	max := e.friction * (e.js + e.jd + e.jh)
+	old := e.jt
+	e.jt = cp.Clamp(old-vt*e.tMass, -max, max)
+	return e.n.Rotate(cp.Vector{X: dn, Y: e.jt - old})
+}
 
-// stopImpulse is the end stop's share of the normal impulse of the last step.
-func (c *padContact) stopImpulse() float64 { return c.jh }
+// GetImpulse is the pad's normal impulse of the last step.
+func (c *padContact) GetImpulse() float64 { return c.edges[0].impulse() + c.edges[1].impulse() }
+
+// impulse is the edge's normal impulse of the last step.
+func (e *padEdge) impulse() float64 { return e.js + e.jd + e.jh }
+
+// point is the edge's contact point, world.
+func (c *padContact) point(e *padEdge) cp.Vector { return c.foot.LocalToWorld(e.bottom) }

@@ -405,11 +405,11 @@ func (p *Plant) buildJoint(mj *models.Joint, j *joint) error {
 
 func (p *Plant) buildPad(foot *link, mp *models.Pad) {
 	pd := pad{name: mp.Name, foot: foot, rest: foot.local(mp.Position), width: mp.Width, thickness: mp.Thickness, travel: mp.Travel}
-	for i, sx := range [2]float64{-1, 1} {
-		bottom := foot.local(models.Vec2{X: mp.Position.X + sx*mp.Width/2, Y: mp.Position.Y - mp.Thickness/2})
-		pd.edges[i] = newPadContact(foot.body, p.space.StaticBody, &p.ground, bottom, mp, 0.5)
-		p.space.AddConstraint(pd.edges[i].Constraint)
+	corner := func(sx float64) cp.Vector {
+		return foot.local(models.Vec2{X: mp.Position.X + sx*mp.Width/2, Y: mp.Position.Y - mp.Thickness/2})
 	}
+	pd.contact = newPadContact(foot.body, p.space.StaticBody, &p.ground, corner(-1), corner(1), mp)
+	p.space.AddConstraint(pd.contact.Constraint)
 	p.pads = append(p.pads, pd)
 }
 
@@ -595,10 +595,11 @@ func (p *Plant) Step() (err error) {
 	for i := range p.pads {
 		pd := &p.pads[i]
 		pd.compression, pd.force, pd.stop = 0, 0, 0
-		for _, c := range pd.edges {
-			pd.compression += math.Max(c.depth, 0) / 2
-			pd.force += c.GetImpulse() / p.dt
-			pd.stop += c.stopImpulse() / p.dt
+		for k := range pd.contact.edges {
+			e := &pd.contact.edges[k]
+			pd.compression += math.Max(e.depth, 0) / 2
+			pd.force += e.impulse() / p.dt
+			pd.stop += e.jh / p.dt
 		}
 	}
 	for i := range p.sensors {
@@ -733,9 +734,10 @@ func (p *Plant) centreOfMass() cp.Vector {
 func (p *Plant) centreOfPressure() (float64, bool) {
 	x, j := 0.0, 0.0
 	for i := range p.pads {
-		for _, c := range p.pads[i].edges {
-			if jn := c.GetImpulse(); jn > 0 {
-				x += c.point().X * jn
+		c := p.pads[i].contact
+		for k := range c.edges {
+			if jn := c.edges[k].impulse(); jn > 0 {
+				x += c.point(&c.edges[k]).X * jn
 				j += jn
 			}
 		}

@@ -27,6 +27,7 @@ type screwLimit struct {
 	mount           float64 // series stiffness; 0 is rigid
 	gamma           float64 // soft edges: the softness of the step
 	lo, hi          bool    // soft edges: which is overshot this step
+	far             bool    // both edges out of a step's reach: nothing to solve
 
 	mass     float64
 	biasLo   float64 // the velocity bounds of the step
@@ -75,6 +76,14 @@ func (l *screwLimit) PreStep(dt float64) {
 		l.biasHi = l.Speed - (q-l.Max)/dt
 		return
 	}
+	// A joint's limits are mostly far apart: skip them while neither is
+	// within twice the step's travel and farReach (a sudden push may pass
+	// one by a step's worth, which the plant moves back; project.go).
+	reach := 2*math.Abs(l.velocity())*dt + farReach
+	if l.far = q-l.Min > reach && l.Max-q > reach; l.far {
+		l.jLo, l.jHi = 0, 0
+		return
+	}
 	l.mass = 1 / l.invMass()
 	// Over the step q' must stay within [biasLo, biasHi], less the drift
 	// the position update adds (coord.drift).
@@ -83,13 +92,23 @@ func (l *screwLimit) PreStep(dt float64) {
 	l.biasHi = l.Speed + l.edgeRate(l.Max-q, dt) - drift
 }
 
+// farReach is how near (m or rad) an edge must be to be solved besides a
+// step's travel: 1 mm or 1 mrad.
+const farReach = 1e-3
+
 func (l *screwLimit) ApplyCachedImpulse(dtCoef float64) {
+	if l.far {
+		return
+	}
 	l.jLo *= dtCoef
 	l.jHi *= dtCoef
 	l.impulse(l.jLo + l.jHi)
 }
 
 func (l *screwLimit) ApplyImpulse(dt float64) {
+	if l.far {
+		return
+	}
 	if l.mount > 0 {
 		l.applySoft()
 		return
