@@ -20,7 +20,7 @@ run: build
 test: setup
 	$(GO) vet ./...
 	$(GO) test ./...
-	$(GO) test -race ./sim ./sim/live ./control ./app/ui
+	$(GO) test -race ./sim ./sim/live ./sim/sil ./control ./app/ui
 	FUZZTIME=$(FUZZTIME) bash .ci/fuzz.sh
 	TEETER_NEED_DISPLAY=1 xvfb-run -a -s "-screen 0 1600x1000x24" $(GO) test -count=1 -run Screenshot -v ./app
 
