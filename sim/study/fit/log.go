@@ -47,40 +47,82 @@ const maxRowProblems = 20
 // shortest log worth replaying. Every problem is returned, each with the
 // file, line and column.
 func ReadLog(file string, data []byte, known map[string]string, period float64) (*Log, error) {
-	var ps models.Problems
-	at := func(line, col int) models.Pos { return models.Pos{File: file, Line: line, Col: col} }
-	cr := csv.NewReader(bytes.NewReader(data))
-	cr.FieldsPerRecord = -1
-	cr.ReuseRecord = true
-	cr.Comment = '#'
-	header, err := cr.Read()
+	r := &logReader{file: file, cr: csv.NewReader(bytes.NewReader(data))}
+	r.cr.FieldsPerRecord = -1
+	r.cr.ReuseRecord = true
+	r.cr.Comment = '#'
+	header, err := r.cr.Read()
 	if err != nil {
 		if errors.Is(err, io.EOF) {
-			ps.Add(at(1, 1), "", "the log is empty; it needs a header with a time column, such as time [s]")
+			r.ps.Add(r.at(1, 1), "", "the log is empty; it needs a header with a time column, such as time [s]")
 		} else {
-			ps.Add(csvPos(file, err, 1), "", "%s", csvMsg(err))
+			r.ps.Add(csvPos(file, err, 1), "", "%s", csvMsg(err))
 		}
-		return nil, ps.Err()
+		return nil, r.ps.Err()
 	}
 	header = slices.Clone(header) // the reader reuses its record
 	l := &Log{File: file}
-	timeCol := -1
-	var factors []float64
+	factors, timeCol := r.readHeader(l, header, known)
+	lastLine := r.readRows(l, header, factors, timeCol)
+	if r.rowProblems > maxRowProblems {
+		r.ps.Add(r.at(lastLine, 1), "", "and %d more problems in the rows", r.rowProblems-maxRowProblems)
+	}
+	if timeCol >= 0 && len(r.ps) == 0 {
+		t := l.cols[timeCol]
+		if len(t) < 2 || t[len(t)-1]-t[0] < period {
+			r.ps.Add(r.at(lastLine, 1), "", "the log is shorter than one control period (%g s)", period)
+		}
+	}
+	if err := r.ps.Err(); err != nil {
+		return nil, err
+	}
+	l.Time = l.cols[timeCol]
+	l.Names = append(l.Names[:timeCol:timeCol], l.Names[timeCol+1:]...)
+	l.Units = append(l.Units[:timeCol:timeCol], l.Units[timeCol+1:]...)
+	l.cols = append(l.cols[:timeCol:timeCol], l.cols[timeCol+1:]...)
+	return l, nil
+}
+
+// logReader is one reading of a log: the CSV reader and the problems found
+// so far.
+type logReader struct {
+	file        string
+	cr          *csv.Reader
+	ps          models.Problems
+	rowProblems int // found in the rows, listed or not
+}
+
+func (r *logReader) at(line, col int) models.Pos {
+	return models.Pos{File: r.file, Line: line, Col: col}
+}
+
+// addRow adds a problem found in the rows, the first maxRowProblems only.
+func (r *logReader) addRow(pos models.Pos, format string, args ...any) {
+	if r.rowProblems++; r.rowProblems <= maxRowProblems {
+		r.ps.Add(pos, "", format, args...)
+	}
+}
+
+// readHeader fills l's names and units from the header and makes its
+// columns. factors take each column to SI (NaN for a column not read);
+// timeCol is the time column's index, -1 without one.
+func (r *logReader) readHeader(l *Log, header []string, known map[string]string) (factors []float64, timeCol int) {
+	timeCol = -1
 	seen := map[string]bool{}
 	for i, h := range header {
-		line, col := cr.FieldPos(i)
+		line, col := r.cr.FieldPos(i)
 		name, unit, ok := splitHeader(h)
 		l.Units = append(l.Units, unit)
-		pos := at(line, col)
+		pos := r.at(line, col)
 		switch {
 		case !ok:
-			ps.Add(pos, "", "column %q: want NAME or NAME [unit]", h)
+			r.ps.Add(pos, "", "column %q: want NAME or NAME [unit]", h)
 		case seen[name]:
-			ps.Add(pos, "", "column %q appears twice", name)
+			r.ps.Add(pos, "", "column %q appears twice", name)
 		case name == "time":
 			f, msg := unitFactor(unit, "s")
 			if msg != "" {
-				ps.Add(pos, "", "column time: %s", msg)
+				r.ps.Add(pos, "", "column time: %s", msg)
 			}
 			timeCol = i
 			factors = append(factors, f)
@@ -90,12 +132,12 @@ func ReadLog(file string, data []byte, known map[string]string, period float64) 
 		default:
 			si, has := known[name]
 			if !has {
-				ps.Add(pos, "", "column %q: the robot has no such channel", name)
+				r.ps.Add(pos, "", "column %q: the robot has no such channel", name)
 				break
 			}
 			f, msg := unitFactor(unit, si)
 			if msg != "" {
-				ps.Add(pos, "", "column %s: %s", name, msg)
+				r.ps.Add(pos, "", "column %s: %s", name, msg)
 			}
 			factors = append(factors, f)
 			l.Names = append(l.Names, name)
@@ -106,71 +148,59 @@ func ReadLog(file string, data []byte, known map[string]string, period float64) 
 		l.Names = append(l.Names, "")
 	}
 	if timeCol < 0 {
-		ps.Add(at(1, 1), "", "no time column (want one named time, as in time [s])")
+		r.ps.Add(r.at(1, 1), "", "no time column (want one named time, as in time [s])")
 	}
 	l.cols = make([][]float64, len(header))
-	rowProblems := 0
-	addRow := func(pos models.Pos, format string, args ...any) {
-		if rowProblems++; rowProblems <= maxRowProblems {
-			ps.Add(pos, "", format, args...)
-		}
-	}
-	lastLine := 1
+	return factors, timeCol
+}
+
+// readRows appends every row to l's columns in SI and returns the last
+// row's line.
+func (r *logReader) readRows(l *Log, header []string, factors []float64, timeCol int) (lastLine int) {
+	lastLine = 1
 	for {
-		rec, err := cr.Read()
+		rec, err := r.cr.Read()
 		if errors.Is(err, io.EOF) {
-			break
+			return lastLine
 		}
 		if err != nil {
-			addRow(csvPos(file, err, lastLine+1), "%s", csvMsg(err))
-			break // the reader cannot go on after a quoting error
+			r.addRow(csvPos(r.file, err, lastLine+1), "%s", csvMsg(err))
+			return lastLine // the reader cannot go on after a quoting error
 		}
-		line, _ := cr.FieldPos(0)
+		line, _ := r.cr.FieldPos(0)
 		lastLine = line
 		if len(rec) != len(header) {
-			_, col := cr.FieldPos(len(rec) - 1)
+			_, col := r.cr.FieldPos(len(rec) - 1)
 			word := "few"
 			if len(rec) > len(header) {
 				word = "many"
 			}
-			addRow(at(line, col), "too %s fields: %d, the header has %d", word, len(rec), len(header))
+			r.addRow(r.at(line, col), "too %s fields: %d, the header has %d", word, len(rec), len(header))
 			continue
 		}
-		for i, text := range rec {
-			_, col := cr.FieldPos(i)
-			v, err := strconv.ParseFloat(strings.TrimSpace(text), 64)
-			switch {
-			case err != nil && !errors.Is(err, strconv.ErrRange):
-				addRow(at(line, col), "column %s: %q is not a number", header[i], text)
-				v = math.NaN()
-			case math.IsNaN(v) || math.IsInf(v, 0):
-				addRow(at(line, col), "column %s: %q is not a finite number", header[i], text)
-				v = math.NaN()
-			}
-			v *= factors[i]
-			l.cols[i] = append(l.cols[i], v)
-			if i == timeCol && len(l.cols[i]) > 1 && !(v > l.cols[i][len(l.cols[i])-2]) {
-				addRow(at(line, col), "time %s is not later than the row before's", strings.TrimSpace(text))
-			}
+		r.readRow(l, rec, line, header, factors, timeCol)
+	}
+}
+
+// readRow appends one row of as many fields as the header to l's columns.
+func (r *logReader) readRow(l *Log, rec []string, line int, header []string, factors []float64, timeCol int) {
+	for i, text := range rec {
+		_, col := r.cr.FieldPos(i)
+		v, err := strconv.ParseFloat(strings.TrimSpace(text), 64)
+		switch {
+		case err != nil && !errors.Is(err, strconv.ErrRange):
+			r.addRow(r.at(line, col), "column %s: %q is not a number", header[i], text)
+			v = math.NaN()
+		case math.IsNaN(v) || math.IsInf(v, 0):
+			r.addRow(r.at(line, col), "column %s: %q is not a finite number", header[i], text)
+			v = math.NaN()
+		}
+		v *= factors[i]
+		l.cols[i] = append(l.cols[i], v)
+		if i == timeCol && len(l.cols[i]) > 1 && !(v > l.cols[i][len(l.cols[i])-2]) {
+			r.addRow(r.at(line, col), "time %s is not later than the row before's", strings.TrimSpace(text))
 		}
 	}
-	if rowProblems > maxRowProblems {
-		ps.Add(at(lastLine, 1), "", "and %d more problems in the rows", rowProblems-maxRowProblems)
-	}
-	if timeCol >= 0 && len(ps) == 0 {
-		t := l.cols[timeCol]
-		if len(t) < 2 || t[len(t)-1]-t[0] < period {
-			ps.Add(at(lastLine, 1), "", "the log is shorter than one control period (%g s)", period)
-		}
-	}
-	if err := ps.Err(); err != nil {
-		return nil, err
-	}
-	l.Time = l.cols[timeCol]
-	l.Names = append(l.Names[:timeCol:timeCol], l.Names[timeCol+1:]...)
-	l.Units = append(l.Units[:timeCol:timeCol], l.Units[timeCol+1:]...)
-	l.cols = append(l.cols[:timeCol:timeCol], l.cols[timeCol+1:]...)
-	return l, nil
 }
 
 // splitHeader splits "name [unit]" into its name and unit ("" for none).
