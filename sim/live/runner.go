@@ -12,6 +12,7 @@ package live
 import (
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"slices"
 	"sync"
@@ -49,7 +50,10 @@ type Tuner interface {
 	Set(path string, v float64) error
 }
 
-// Build makes a fresh plant and its tuner from a robot description.
+// Build makes a fresh plant and its tuner from a robot description. A
+// plant that holds something outside the process, such as a controller
+// program, implements io.Closer: the runner closes it when it builds the
+// next one or stops.
 type Build[S any] func(robot *models.Robot) (Plant[S], Tuner, error)
 
 // Config says what a Runner runs.
@@ -186,6 +190,7 @@ func (r *Runner[S]) rebuild() error {
 			break
 		}
 		if err := tuner.Set(path, r.gains[path]); err != nil {
+			closePlant(plant)
 			return fmt.Errorf("gain %s: %w", path, err)
 		}
 	}
@@ -193,6 +198,9 @@ func (r *Runner[S]) rebuild() error {
 	notice := ""
 	if err := plant.Schedule(r.schedule); err != nil {
 		notice = fmt.Sprintf("scheduled shoves left out: %v", err)
+	}
+	if r.plant != nil {
+		closePlant(r.plant)
 	}
 	r.plant, r.tuner = plant, tuner
 	r.sample = make([]float64, len(names))
@@ -219,6 +227,15 @@ func (r *Runner[S]) rebuild() error {
 	r.record(true)
 	r.publish()
 	return nil
+}
+
+// closePlant ends a plant that holds something outside the process. Its
+// error is dropped: the plant is no longer run, and a failure while it ran
+// was reported then.
+func closePlant[S any](p Plant[S]) {
+	if c, ok := p.(io.Closer); ok {
+		c.Close()
+	}
 }
 
 // record adds one trace sample when one is due.
@@ -279,6 +296,7 @@ const frame = 15 * time.Millisecond
 
 func (r *Runner[S]) loop() {
 	defer close(r.done)
+	defer func() { closePlant(r.plant) }()
 	timer := time.NewTimer(time.Hour)
 	defer timer.Stop()
 	for {

@@ -427,3 +427,44 @@ func TestSignalUnitsAreThePlants(t *testing.T) {
 		t.Fatalf("signals %v have units %v, want the plant's %v", names, units, want)
 	}
 }
+
+// closingPlant is a fake plant that holds a resource, such as a controller
+// program, and counts how often it is closed.
+type closingPlant struct {
+	fakePlant
+	closed int
+}
+
+func (p *closingPlant) Close() error { p.closed++; return nil }
+
+func TestRebuildsCloseThePlantTheyReplace(t *testing.T) {
+	// Every plant built holds a process (io.Closer: Close releases what
+	// the value holds): a reset or a rebuild closes the one it replaces,
+	// once, and leaves the running one open; Close ends the last one.
+	var built []*closingPlant
+	run, err := New(Config[fakeSnap]{
+		Robot: &models.Robot{Name: "fake"},
+		Build: func(r *models.Robot) (Plant[fakeSnap], Tuner, error) {
+			kp := 4.0
+			p := &closingPlant{fakePlant: fakePlant{dt: 0.01, kp: &kp}}
+			built = append(built, p)
+			return p, fakeTuner{&kp}, nil
+		},
+		SetParam: func(r *models.Robot, path string, v float64) error { r.Ground.Tilt = v; return nil },
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	must(t, run.Reset())
+	must(t, run.SetParam("start", 0.2))
+	must(t, run.SetRobot(&models.Robot{Name: "other"}))
+	run.Close()
+	if len(built) != 4 {
+		t.Fatalf("%d plants built, want 4 (New, Reset, SetParam, SetRobot)", len(built))
+	}
+	for i, p := range built {
+		if p.closed != 1 {
+			t.Errorf("plant %d closed %d times, want once", i, p.closed)
+		}
+	}
+}
