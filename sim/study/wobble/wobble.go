@@ -245,7 +245,6 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 	if err != nil {
 		return nil, err
 	}
-	const settle = 2.0
 	if err := p.RunFor(settle); err != nil {
 		return nil, fmt.Errorf("wobble: while settling: %w", err)
 	}
@@ -254,23 +253,12 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 		return nil, err
 	}
 	rec := p.Recorder()
-	col := func(name string) int {
-		c := rec.Index(name)
-		if c < 0 {
-			err = fmt.Errorf("wobble: no recorded column %q", name)
-		}
-		return c
-	}
-	timeCol, tiltCol := col("time"), col("torso_tilt")
-	screwCol, outCol, loadCol := make([]int, n), make([]int, n), make([]int, n)
-	for i, name := range actuators {
-		screwCol[i], outCol[i], loadCol[i] = col(name+".screw"), col(name+".output"), col(name+".force")
-	}
+	cols, err := findColumns(rec, actuators)
 	if err != nil {
 		return nil, err
 	}
 	for i := range actuators {
-		res.StaticLoad[i] = rec.At(rec.Len()-1, loadCol[i])
+		res.StaticLoad[i] = rec.At(rec.Len()-1, cols.load[i])
 	}
 	for _, hz := range res.Hz {
 		x, y, load, tilt := newCmat(n, n), newCmat(n, n), newCmat(n, n), newCmat(1, n)
@@ -284,61 +272,20 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 			if err := p.Restore(saved); err != nil {
 				return nil, err
 			}
-			w := 2 * math.Pi * hz
-			period := 1 / hz
-			start := settle + math.Max(1, period)   // the transient dies out
-			periods := math.Ceil(math.Max(3, 2*hz)) // at least 2 s
-			end := start + periods*period
-			injected := 0.0
-			first := rec.Len()
-			for p.Time() < end {
-				d := amp * math.Sin(w*(p.Time()-settle))
-				if err := p.NudgeScrew(name, d-injected); err != nil {
-					return nil, err
-				}
-				injected = d
-				if err := p.Step(); err != nil {
-					return nil, fmt.Errorf("wobble: injecting %.3g Hz at %s: %w", hz, name, err)
-				}
-			}
-			var rows []int
-			for k := first; k < rec.Len(); k++ {
-				if t := rec.At(k, timeCol); t >= start && t < end {
-					rows = append(rows, k)
-				}
-			}
-			if len(rows) == 0 {
-				return nil, fmt.Errorf("wobble: no samples at %.3g Hz", hz)
-			}
-			// Fourier coefficients at w over the whole periods from start,
-			// of each signal less its mean: the standing values are large
-			// beside the swing, and the samples cover whole periods only to
-			// within a sample.
-			coef := func(c int, less float64) complex128 {
-				v := func(k int) float64 {
-					return rec.At(k, c) - less*amp*math.Sin(w*(rec.At(k, timeCol)-settle))
-				}
-				mean := 0.0
-				for _, k := range rows {
-					mean += v(k)
-				}
-				mean /= float64(len(rows))
-				var sum complex128
-				for _, k := range rows {
-					sum += complex(v(k)-mean, 0) * cmplx.Exp(complex(0, -w*(rec.At(k, timeCol)-settle)))
-				}
-				return sum
+			s, err := inject(p, name, amp, hz, cols.time)
+			if err != nil {
+				return nil, err
 			}
 			for i := range actuators {
 				injectedHere := 0.0
 				if i == j {
 					injectedHere = 1
 				}
-				x.set(i, j, coef(screwCol[i], injectedHere))
-				y.set(i, j, coef(outCol[i], 0))
-				load.set(i, j, coef(loadCol[i], 0))
+				x.set(i, j, s.coef(cols.screw[i], injectedHere))
+				y.set(i, j, s.coef(cols.out[i], 0))
+				load.set(i, j, s.coef(cols.load[i], 0))
 			}
-			tilt.set(0, j, coef(tiltCol, 0))
+			tilt.set(0, j, s.coef(cols.tilt, 0))
 			if y.at(j, j) == 0 {
 				return nil, fmt.Errorf("wobble: no response at %.3g Hz", hz)
 			}
@@ -346,6 +293,95 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 		res.X, res.Y, res.Load, res.Tilt = append(res.X, x), append(res.Y, y), append(res.Load, load), append(res.Tilt, tilt)
 	}
 	return res, nil
+}
+
+// settle is how long the robot stands, s, before anything is injected.
+const settle = 2.0
+
+// responseColumns are the recorded columns Measure reads.
+type responseColumns struct {
+	time, tilt       int
+	screw, out, load []int // per actuator
+}
+
+func findColumns(rec *sim.Recorder, actuators []string) (responseColumns, error) {
+	var err error
+	col := func(name string) int {
+		c := rec.Index(name)
+		if c < 0 {
+			err = fmt.Errorf("wobble: no recorded column %q", name)
+		}
+		return c
+	}
+	n := len(actuators)
+	cols := responseColumns{time: col("time"), tilt: col("torso_tilt"),
+		screw: make([]int, n), out: make([]int, n), load: make([]int, n)}
+	for i, name := range actuators {
+		cols.screw[i], cols.out[i], cols.load[i] = col(name+".screw"), col(name+".output"), col(name+".force")
+	}
+	return cols, err
+}
+
+// swing is the recording of one injection: the rows over whole periods
+// after the transient.
+type swing struct {
+	rec     *sim.Recorder
+	rows    []int
+	timeCol int
+	amp, w  float64
+}
+
+// inject drives the named screw by amp sin(2 pi hz (t - settle)) from the
+// plant's state after settling.
+func inject(p *sim.Plant, name string, amp, hz float64, timeCol int) (swing, error) {
+	rec := p.Recorder()
+	w := 2 * math.Pi * hz
+	period := 1 / hz
+	start := settle + math.Max(1, period)   // the transient dies out
+	periods := math.Ceil(math.Max(3, 2*hz)) // at least 2 s
+	end := start + periods*period
+	injected := 0.0
+	first := rec.Len()
+	for p.Time() < end {
+		d := amp * math.Sin(w*(p.Time()-settle))
+		if err := p.NudgeScrew(name, d-injected); err != nil {
+			return swing{}, err
+		}
+		injected = d
+		if err := p.Step(); err != nil {
+			return swing{}, fmt.Errorf("wobble: injecting %.3g Hz at %s: %w", hz, name, err)
+		}
+	}
+	s := swing{rec: rec, timeCol: timeCol, amp: amp, w: w}
+	for k := first; k < rec.Len(); k++ {
+		if t := rec.At(k, timeCol); t >= start && t < end {
+			s.rows = append(s.rows, k)
+		}
+	}
+	if len(s.rows) == 0 {
+		return swing{}, fmt.Errorf("wobble: no samples at %.3g Hz", hz)
+	}
+	return s, nil
+}
+
+// coef is column c's Fourier coefficient at the injected frequency over
+// the swing's whole periods, of the column less less times the injection
+// and less its mean: the standing values are large beside the swing, and
+// the samples cover whole periods only to within a sample.
+func (s swing) coef(c int, less float64) complex128 {
+	v := func(k int) float64 {
+		return s.rec.At(k, c) - less*s.amp*math.Sin(s.w*(s.rec.At(k, s.timeCol)-settle))
+	}
+	mean := 0.0
+	for _, k := range s.rows {
+		mean += v(k)
+	}
+	mean /= float64(len(s.rows))
+	var sum complex128
+	for _, k := range s.rows {
+		sum += complex(v(k)-mean, 0) * cmplx.Exp(complex(0, -s.w*(s.rec.At(k, s.timeCol)-settle)))
+	}
+	return sum
 }
 
 // loop is the linear part at one frequency, as matrices on the outputs: the
