@@ -221,30 +221,10 @@ func (k *actuatorBlock) cEmit(w *cWriter) {
 
 func (p *pidBlock) cClock() bool { return false }
 func (p *pidBlock) cEmit(w *cWriter) {
-	st := func(name string) string { return w.state(name) }
-	for _, v := range []string{"integral", "deriv", "last_y", "old_kp", "old_b"} {
-		w.declare("teeter_real", v)
-	}
-	w.declare("unsigned char", "started")
-	w.declare("unsigned char", "retune")
-	reset := []string{}
-	for _, v := range []string{"integral", "deriv", "last_y", "started", "retune"} {
-		reset = append(reset, st(v)+" = 0;")
-	}
-	for i := 0; i < 4; i++ {
-		reset = append(reset, w.out(&p.ports, i)+" = 0;")
-	}
-	w.onReset(reset...)
-
-	// beforeRetune: the gains in force before the first change of a tick.
+	p.cState(w)
 	kp, b := w.par(&p.kp), w.par(&p.b)
-	retune := fmt.Sprintf("if (!%s) { %s = 1; %s = %s; %s = %s; }", st("retune"), st("retune"), st("old_kp"), kp, st("old_b"), b)
-	for i := range w.c.g.params {
-		if w.c.g.params[i].owner == block(p) {
-			w.c.retune[i] = retune
-		}
-	}
-
+	p.cRetune(w, kp, b)
+	st := func(name string) string { return w.state(name) }
 	lines := []string{"{",
 		fmt.Sprintf("    const teeter_real r = %s, y = %s;", w.in(&p.ports, 0), w.in(&p.ports, 1)),
 		fmt.Sprintf("    const teeter_real kp = %s, ki = %s, kd = %s, b = %s;", kp, w.par(&p.ki), w.par(&p.kd), b),
@@ -285,19 +265,57 @@ func (p *pidBlock) cEmit(w *cWriter) {
 	for k, x := range []string{"u", "prop", i, d} {
 		lines = append(lines, fmt.Sprintf("    %s = %s;", w.out(&p.ports, k), x))
 	}
+	lines = append(lines, p.cIntegrate(w, i, lo, hi)...)
+	lines = append(lines, fmt.Sprintf("    %s = y;", st("last_y")), "    }", "}")
+	w.onTick(lines...)
+}
+
+// cState declares the PID's state and resets it with the outputs.
+func (p *pidBlock) cState(w *cWriter) {
+	for _, v := range []string{"integral", "deriv", "last_y", "old_kp", "old_b"} {
+		w.declare("teeter_real", v)
+	}
+	w.declare("unsigned char", "started")
+	w.declare("unsigned char", "retune")
+	reset := []string{}
+	for _, v := range []string{"integral", "deriv", "last_y", "started", "retune"} {
+		reset = append(reset, w.state(v)+" = 0;")
+	}
+	for i := 0; i < 4; i++ {
+		reset = append(reset, w.out(&p.ports, i)+" = 0;")
+	}
+	w.onReset(reset...)
+}
+
+// cRetune keeps, before a tick's first change of any of the PID's
+// parameters, the gains in force (kp and b), so the tick moves the
+// integral for a bumpless change.
+func (p *pidBlock) cRetune(w *cWriter, kp, b string) {
+	st := func(name string) string { return w.state(name) }
+	retune := fmt.Sprintf("if (!%s) { %s = 1; %s = %s; %s = %s; }", st("retune"), st("retune"), st("old_kp"), kp, st("old_b"), b)
+	for i := range w.c.g.params {
+		if w.c.g.params[i].owner == block(p) {
+			w.c.retune[i] = retune
+		}
+	}
+}
+
+// cIntegrate is the integral's update by the error e, with the PID's
+// anti-windup between lo and hi when it is limited.
+func (p *pidBlock) cIntegrate(w *cWriter, i, lo, hi string) []string {
 	switch {
 	case !p.limited || p.windup == windupNone:
-		lines = append(lines, fmt.Sprintf("    %s += ki * H * e;", i))
+		return []string{fmt.Sprintf("    %s += ki * H * e;", i)}
 	case p.windup == windupConditional:
-		lines = append(lines,
+		return []string{
 			"    /* hold the integral while saturated and the error drives further in */",
 			fmt.Sprintf("    if (!(v > %s && e > 0) && !(v < %s && e < 0))", hi, lo),
-			fmt.Sprintf("        %s += ki * H * e;", i))
+			fmt.Sprintf("        %s += ki * H * e;", i)}
 	default:
-		lines = append(lines,
+		return []string{
 			"    {",
 			"        /* back-calculation: tracking time tt, else sqrt(Ti*Td) or Ti/2, at least a tick */",
-			"        teeter_real tt = "+w.par(&p.tt)+";",
+			"        teeter_real tt = " + w.par(&p.tt) + ";",
 			"        if (tt <= 0) {",
 			"            if (ki <= 0) {",
 			"                tt = H;",
@@ -311,10 +329,8 @@ func (p *pidBlock) cEmit(w *cWriter) {
 			"        if (tt < H)",
 			"            tt = H;",
 			fmt.Sprintf("        %s += ki * H * e + H / tt * (u - v);", i),
-			"    }")
+			"    }"}
 	}
-	lines = append(lines, fmt.Sprintf("    %s = y;", st("last_y")), "    }", "}")
-	w.onTick(lines...)
 }
 
 // The sequencer runs in double: its outputs are ramps in time, so they
@@ -322,20 +338,48 @@ func (p *pidBlock) cEmit(w *cWriter) {
 // tick.
 func (s *sequencerBlock) cClock() bool { return true }
 func (s *sequencerBlock) cEmit(w *cWriter) {
-	state, entered, started, from := w.state("state"), w.state("entered"), w.state("started"), w.state("from")
+	state, entered, started := w.state("state"), w.state("entered"), w.state("started")
 	w.declare("int", "state")
 	w.declare("double", "entered")
 	w.declare("unsigned char", "started")
-	w.c.decl.WriteString(fmt.Sprintf("static double %s[%d];\n", from, max1(s.nOut)))
+	fmt.Fprintf(&w.c.decl, "static double %s[%d];\n", w.state("from"), max1(s.nOut))
 	latched := w.state("latched")
 	if len(s.events) > 0 {
-		w.c.decl.WriteString(fmt.Sprintf("static unsigned char %s[%d];\n", latched, len(s.events)))
+		fmt.Fprintf(&w.c.decl, "static unsigned char %s[%d];\n", latched, len(s.events))
 		for i, e := range s.events {
 			w.c.events = append(w.c.events, cEvent{block: s.name, event: e, latched: fmt.Sprintf("%s[%d]", latched, i)})
 		}
 	}
-	out := func(k int) string { return w.out(&s.ports, k) }
+	s.cEnterAndDrive(w)
 
+	reset := []string{state + " = 0;", started + " = 0;"}
+	for i := range s.events {
+		reset = append(reset, fmt.Sprintf("%s[%d] = 0;", latched, i))
+	}
+	for k := 0; k <= s.nOut; k++ {
+		reset = append(reset, w.out(&s.ports, k)+" = 0;")
+	}
+	w.onReset(append(reset, fmt.Sprintf("b%d_enter(0);", w.n), fmt.Sprintf("b%d_drive();", w.n))...)
+
+	tick := []string{fmt.Sprintf("if (!%s) {", started), fmt.Sprintf("    %s = 1;", started), fmt.Sprintf("    %s = now;", entered), "}"}
+	if trans, needElapsed := s.cTransitions(w); len(trans) > 0 {
+		tick = append(tick, "{")
+		if needElapsed {
+			tick = append(tick, fmt.Sprintf("    const double elapsed = now - %s;", entered))
+		}
+		tick = append(tick, fmt.Sprintf("    switch (%s) {", state))
+		tick = append(tick, trans...)
+		tick = append(tick, "    default:", "        break;", "    }", "}")
+	}
+	w.onTick(append(tick, fmt.Sprintf("b%d_drive();", w.n))...)
+}
+
+// cEnterAndDrive writes the sequencer's two functions: bN_enter enters a
+// state, keeping the outputs its ramps start from; bN_drive sets the
+// outputs the state in force sets, ramped.
+func (s *sequencerBlock) cEnterAndDrive(w *cWriter) {
+	state, entered, from := w.state("state"), w.state("entered"), w.state("from")
+	out := func(k int) string { return w.out(&s.ports, k) }
 	f := &w.c.funcs
 	fmt.Fprintf(f, "/* %s (sequencer): states", commentSafe(s.name))
 	for i := range s.states {
@@ -374,19 +418,13 @@ func (s *sequencerBlock) cEmit(w *cWriter) {
 		f.WriteString("    default:\n        break;\n    }\n")
 	}
 	f.WriteString("}\n\n")
+}
 
-	reset := []string{state + " = 0;", started + " = 0;"}
-	for i := range s.events {
-		reset = append(reset, fmt.Sprintf("%s[%d] = 0;", latched, i))
-	}
-	for k := 0; k <= s.nOut; k++ {
-		reset = append(reset, out(k)+" = 0;")
-	}
-	w.onReset(append(reset, fmt.Sprintf("b%d_enter(0);", w.n), fmt.Sprintf("b%d_drive();", w.n))...)
-
-	tick := []string{fmt.Sprintf("if (!%s) {", started), fmt.Sprintf("    %s = 1;", started), fmt.Sprintf("    %s = now;", entered), "}"}
-	var trans []string
-	needElapsed := false
+// cTransitions are the cases of the tick's switch on the state, one per
+// state that can leave; needElapsed says whether one reads the time in the
+// state.
+func (s *sequencerBlock) cTransitions(w *cWriter) (trans []string, needElapsed bool) {
+	latched := w.state("latched")
 	for i := range s.states {
 		st := &s.states[i]
 		if len(st.next) == 0 {
@@ -421,14 +459,5 @@ func (s *sequencerBlock) cEmit(w *cWriter) {
 		}
 		trans = append(trans, "        break;")
 	}
-	if len(trans) > 0 {
-		tick = append(tick, "{")
-		if needElapsed {
-			tick = append(tick, fmt.Sprintf("    const double elapsed = now - %s;", entered))
-		}
-		tick = append(tick, fmt.Sprintf("    switch (%s) {", state))
-		tick = append(tick, trans...)
-		tick = append(tick, "    default:", "        break;", "    }", "}")
-	}
-	w.onTick(append(tick, fmt.Sprintf("b%d_drive();", w.n))...)
+	return trans, needElapsed
 }
