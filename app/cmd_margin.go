@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"flag"
 	"fmt"
 	"io"
 	"math"
@@ -24,6 +25,39 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	rf := addRigFlags(fs)
 	rf.addPhysicsRateFlag(fs)
 	rf.addExecFlags(fs)
+	readSpec := addMarginFlags(fs)
+	asJSON := fs.Bool("json", false, "print the result as JSON")
+	if err := parseFlags(fs, args); err != nil {
+		return err
+	}
+	spec, err := readSpec()
+	if err != nil {
+		return err
+	}
+	r, err := rf.load()
+	if err != nil {
+		return err
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	bar := newProgress(stderr, "margin")
+	spec.Progress = bar.update
+	res, err := margin.Find(ctx, r, spec)
+	bar.finish()
+	if err != nil {
+		return err
+	}
+	if *asJSON {
+		return json.NewEncoder(stdout).Encode(jsonSafe(res))
+	}
+	printMargin(stdout, r.Robot.Name, spec.Filled(r.Robot), res)
+	return nil
+}
+
+// addMarginFlags adds the flags of the search; the function it returns
+// reads them, after parsing, into a spec (the study fills what is not
+// given).
+func addMarginFlags(fs *flag.FlagSet) func() (margin.Spec, error) {
 	at := fs.String("at", "", "link to shove (default: the robot's fall-watch link, the torso)")
 	point := fs.String("point", "", "where on the link, x:y in the link frame (default: its centre of mass)")
 	dirs := fs.String("dir", "", "directions, comma separated: left, right, forward, back or degrees (default: left,right or back,forward by the robot's plane)")
@@ -46,53 +80,39 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 	workers := fs.Int("workers", 0, "runs in parallel (default: every core)")
 	seeds := fs.Int("seeds", def.Seeds, "noise seeds each direction is searched with")
 	seed := fs.Uint64("seed", def.Seed, "the first of them")
-	asJSON := fs.Bool("json", false, "print the result as JSON")
-	if err := parseFlags(fs, args); err != nil {
-		return err
-	}
-	for i, q := range quantities {
-		if *texts[i] == "" {
-			continue // the study's default
+	return func() (margin.Spec, error) {
+		for i, q := range quantities {
+			if *texts[i] == "" {
+				continue // the study's default
+			}
+			v, _, err := models.ParseQuantity(*texts[i], q.kind)
+			if err != nil || v < 0 {
+				return spec, usageError{fmt.Errorf("--%s %q: %v", q.name, *texts[i], err)}
+			}
+			*q.dst = v
 		}
-		v, _, err := models.ParseQuantity(*texts[i], q.kind)
-		if err != nil || v < 0 {
-			return usageError{fmt.Errorf("--%s %q: %v", q.name, *texts[i], err)}
+		if *seeds < 1 {
+			return spec, usageError{fmt.Errorf("--seeds %d: want at least 1", *seeds)}
 		}
-		*q.dst = v
-	}
-	if *seeds < 1 {
-		return usageError{fmt.Errorf("--seeds %d: want at least 1", *seeds)}
-	}
-	spec.Link, spec.Workers, spec.Seeds, spec.Seed = *at, *workers, *seeds, *seed
-	if *point != "" {
-		p, err := parsePoint(*point)
-		if err != nil {
-			return err
+		spec.Link, spec.Workers, spec.Seeds, spec.Seed = *at, *workers, *seeds, *seed
+		if *point != "" {
+			p, err := parsePoint(*point)
+			if err != nil {
+				return spec, err
+			}
+			spec.Point = &p
 		}
-		spec.Point = &p
+		if *dirs != "" {
+			spec.Dirs = strings.Split(*dirs, ",")
+		}
+		return spec, nil
 	}
-	if *dirs != "" {
-		spec.Dirs = strings.Split(*dirs, ",")
-	}
-	r, err := rf.load()
-	if err != nil {
-		return err
-	}
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
-	defer stop()
-	bar := newProgress(stderr, "margin")
-	spec.Progress = bar.update
-	res, err := margin.Find(ctx, r, spec)
-	bar.finish()
-	if err != nil {
-		return err
-	}
-	if *asJSON {
-		return json.NewEncoder(stdout).Encode(jsonSafe(res))
-	}
-	spec = spec.Filled(r.Robot)
+}
+
+// printMargin prints the margins found with the filled spec as a table.
+func printMargin(stdout io.Writer, robot string, spec margin.Spec, res []margin.Result) {
 	fmt.Fprintf(stdout, "recovery margin of %s (shove at %.2f s, must stay up %.1f s after; %d seeds from %d, each within %g N*s):\n",
-		r.Robot.Name, spec.At, spec.Settle, spec.Seeds, spec.Seed, spec.Tol)
+		robot, spec.At, spec.Settle, spec.Seeds, spec.Seed, spec.Tol)
 	fmt.Fprintf(stdout, "  %-10s %10s %10s %10s\n", "N*s", "trusted", "median", "felled")
 	for _, m := range res {
 		felled := fmt.Sprintf("%.3f", m.Felled)
@@ -110,7 +130,6 @@ func cmdMargin(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	fmt.Fprintln(stdout, "trusted: survived with every seed; median: over the seeds; felled: the smallest shove that felled any seed")
-	return nil
 }
 
 // parsePoint reads --point x:y, two lengths.
