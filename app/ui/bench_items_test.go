@@ -251,6 +251,12 @@ func TestBuiltinRobotsComeWithTheirControllers(t *testing.T) {
 	if !strings.Contains(text, "every screw is held") || !strings.Contains(text, "sagittal") {
 		t.Fatalf("opening a robot with no controller says %q", text)
 	}
+	// The banner over the robot says it while the robot runs so, in the
+	// rig's words (rig.Rig.Notice).
+	w.refresh()
+	if !w.banner.Visible() || !strings.Contains(w.bannerT.Text, "every screw is held") {
+		t.Fatalf("the banner over a robot without a controller: shown %v, %q", w.banner.Visible(), w.bannerT.Text)
+	}
 	use := findButton(t, w.win.Canvas(), "Use sagittal")
 	if use == nil {
 		t.Fatal("no offer of the sagittal controller")
@@ -258,6 +264,9 @@ func TestBuiltinRobotsComeWithTheirControllers(t *testing.T) {
 	test.Tap(use)
 	if w.spec == nil || w.gainRows["body_loop.kp"] == nil {
 		t.Fatal("the offered controller does not run")
+	}
+	if w.refresh(); w.banner.Visible() {
+		t.Fatalf("the banner stays with a controller: %q", w.bannerT.Text)
 	}
 	if got, err := w.run.Gain("body_loop.kp"); err != nil || got != fileGains(t, "builtin:sagittal")["body_loop.kp"] {
 		t.Fatalf("running body_loop.kp %g (%v)", got, err)

@@ -171,7 +171,7 @@ func (w *Window) replaceController(ctrl *models.Value, err error) error {
 			row.show(v)
 		}
 	}
-	w.graph.setSpec(spec)
+	w.graph.setSpec(w.drawnSpec())
 	w.blockBox.Objects = []fyne.CanvasObject{widget.NewLabel("Select a block to see its parameters.")}
 	w.blockBox.Refresh()
 	w.lastVer = 0

@@ -139,6 +139,8 @@ type cascadeView struct {
 	selected string
 	compact  bool
 	onSelect func(block string)
+	// noGraph says why there is no graph to draw.
+	noGraph func() string
 
 	// The live values: signal indexes in the runner, found once per set of
 	// names, and the trace they are read into.
@@ -148,8 +150,8 @@ type cascadeView struct {
 	tr    live.Trace
 }
 
-func newCascadeView(onSelect func(string)) *cascadeView {
-	return &cascadeView{content: container.NewVBox(), onSelect: onSelect}
+func newCascadeView(onSelect func(string), noGraph func() string) *cascadeView {
+	return &cascadeView{content: container.NewVBox(), onSelect: onSelect, noGraph: noGraph}
 }
 
 // signalOf is the signal a port's source names: "block.output" as is, a
@@ -261,7 +263,7 @@ func (g *cascadeView) setSpec(spec *control.Spec) {
 	g.spec, g.cards, g.loops, g.seqs, g.names = spec, map[string]*cascadeCard{}, nil, nil, nil
 	g.content.Objects = nil
 	if spec == nil || len(spec.Blocks) == 0 {
-		g.content.Add(wrapped(noController))
+		g.content.Add(wrapped(g.noGraph()))
 		g.content.Refresh()
 		return
 	}

@@ -81,6 +81,8 @@ func (w *Window) menu() *fyne.MainMenu {
 		fyne.NewMenuItem("Load gains…", func() { w.openFile(w.LoadGains, ".yaml", ".yml", ".json") }),
 		fyne.NewMenuItem("Save gains…", func() { w.saveFile("gains.yaml", w.SaveGains) }),
 		fyne.NewMenuItem("Export firmware header…", func() { w.saveFile("gains.h", w.ExportHeader) }),
+		fyne.NewMenuItem("Run a controller program…", func() { w.openFile(w.RunProgram) }),
+		fyne.NewMenuItem("Use the robot's own controller", func() { w.report("Could not go back to the robot's own controller", w.UseOwnController()) }),
 		fyne.NewMenuItemSeparator(),
 		fyne.NewMenuItem("Export traces as CSV…", func() { w.saveFile("traces.csv", w.ExportCSV) }),
 		fyne.NewMenuItem("Export plot as PNG…", func() { w.saveFile("plot.png", w.ExportPlotPNG) }),
@@ -184,10 +186,13 @@ func (w *Window) installRobot(r *models.Robot, path string) error {
 	if err == nil && spec != nil {
 		_, err = control.Build(spec, models.Channels(r), models.ActuatorNames(r))
 	}
+	// A program speaks the channels of the robot it was started for.
+	program := w.program.Swap(nil)
 	if err == nil {
 		err = <-w.run.SetRobot(r.Clone())
 	}
 	if err != nil {
+		w.program.Store(program)
 		return err
 	}
 	w.setModel(r, path, spec)
@@ -195,8 +200,24 @@ func (w *Window) installRobot(r *models.Robot, path string) error {
 	return nil
 }
 
-// noController says what runs a robot without a controller section.
-const noController = "This robot has no controller: every screw is held where it starts, so nothing balances it."
+// controllerNotice is what a user should know about what drives the robot
+// (rig.Rig.Notice, as a sentence), or "".
+func (w *Window) controllerNotice() string {
+	n := (&rig.Rig{Robot: w.robot, Spec: w.spec, Program: w.program.Load()}).Notice()
+	if n == "" {
+		return ""
+	}
+	return strings.ToUpper(n[:1]) + n[1:] + "."
+}
+
+// noGraphText says why the robot has no controller graph: a program drives
+// it, or nothing does.
+func (w *Window) noGraphText() string {
+	if p := w.program.Load(); p != nil {
+		return "The controller program " + p.Path + " drives the robot."
+	}
+	return w.controllerNotice()
+}
 
 // fittingController names a built-in controller that builds against the
 // robot's sensors and actuators, or "".
@@ -220,10 +241,10 @@ func (w *Window) offerController() {
 	}
 	name := fittingController(w.robot)
 	if name == "" {
-		dialog.NewInformation("No controller", noController+" Add a controller section to the file to drive it.", w.win).Show()
+		dialog.NewInformation("No controller", w.controllerNotice()+" Add a controller section to the file to drive it.", w.win).Show()
 		return
 	}
-	d := dialog.NewConfirm("No controller", noController+"\n\nThe built-in "+name+" controller fits its sensors and actuators. Use it?", func(ok bool) {
+	d := dialog.NewConfirm("No controller", w.controllerNotice()+"\n\nThe built-in "+name+" controller fits its sensors and actuators. Use it?", func(ok bool) {
 		if ok {
 			w.useBuiltinController(name)
 		}

@@ -141,7 +141,7 @@ func (w *Window) applyLook() {
 		pal = paletteFor(w.app.Settings().ThemeVariant())
 		w.lastVer = 0
 		if w.graph != nil {
-			w.graph.setSpec(w.spec)
+			w.graph.setSpec(w.drawnSpec())
 		}
 	}
 	w.app.Settings().SetTheme(look{})

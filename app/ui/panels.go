@@ -80,7 +80,7 @@ func (w *Window) buildGainRows() {
 	w.gainBox.Objects = nil
 	switch {
 	case w.spec == nil:
-		w.gainBox.Add(widget.NewLabel(noController))
+		w.gainBox.Add(wrapped(w.noGraphText()))
 		if name := fittingController(w.robot); name != "" {
 			w.gainBox.Add(widget.NewButton("Use the built-in "+name+" controller", func() { w.useBuiltinController(name) }))
 		}

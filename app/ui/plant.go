@@ -3,11 +3,13 @@ package ui
 import (
 	"errors"
 	"math"
+	"sync/atomic"
 
 	"teeter/models"
 	"teeter/sim"
 	"teeter/sim/live"
 	"teeter/sim/rig"
+	"teeter/sim/sil"
 )
 
 // physicsRate is the plant's step rate in the window.
@@ -18,6 +20,65 @@ type simPlant struct {
 	p       *sim.Plant
 	perTick int
 	rec     *sim.Recorder
+	prog    *sil.Controller // the controller program driving p, or nil
+}
+
+// withProgram builds with the controller program prog holds, when it holds
+// one, else with build.
+func withProgram(prog *atomic.Pointer[rig.Program], build live.Build[sim.Snapshot]) live.Build[sim.Snapshot] {
+	return func(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
+		if p := prog.Load(); p != nil {
+			return buildProgramPlant(r, p)
+		}
+		return build(r)
+	}
+}
+
+// buildProgramPlant makes a plant driven by a controller program, at the
+// rig's rate for a program. The program is started here rather than by
+// rig.Build, which keeps it to itself: the runner closes the plant, and
+// with it the program, when it builds the next.
+func buildProgramPlant(r *models.Robot, program *rig.Program) (live.Plant[sim.Snapshot], live.Tuner, error) {
+	rg := rig.Rig{Robot: r, Program: program}
+	rate := math.Min(rg.ControlRate(), physicsRate)
+	prog, err := sil.Start(program.Path, models.Channels(r), models.ChannelUnits(r), models.ActuatorNames(r), rate, program.Options)
+	if err != nil {
+		return nil, nil, err
+	}
+	p, err := sim.New(r, prog, plantOptions(rate))
+	if err != nil {
+		prog.Close()
+		return nil, nil, err
+	}
+	sp := wrapPlant(p, rate)
+	sp.prog = prog
+	return sp, programTuner{prog}, nil
+}
+
+// programTuner sends the window's gain changes and sequence requests to a
+// controller program. The protocol has no way to read a value back.
+type programTuner struct{ *sil.Controller }
+
+func (programTuner) Get(path string) (float64, error) {
+	return 0, errors.New("a controller program's parameters cannot be read back")
+}
+
+// Close ends the controller program, if one drives the plant.
+func (s *simPlant) Close() error {
+	if s.prog == nil {
+		return nil
+	}
+	return s.prog.Close()
+}
+
+// plantOptions are the window's plant options with the controller at rate.
+func plantOptions(rate float64) sim.Options {
+	return sim.Options{PhysicsRate: physicsRate, ControlRate: rate, RecordCapacity: 2}
+}
+
+// wrapPlant gives the runner p, whose controller ticks at rate.
+func wrapPlant(p *sim.Plant, rate float64) *simPlant {
+	return &simPlant{p: p, perTick: max(1, int(math.Round(physicsRate/rate))), rec: p.Recorder()}
 }
 
 // buildPlant makes the plant and controller graph for a robot through
@@ -30,11 +91,11 @@ func buildPlant(r *models.Robot) (live.Plant[sim.Snapshot], live.Tuner, error) {
 	}
 	rg := rig.Rig{Robot: r, Spec: spec}
 	rate := math.Min(rg.ControlRate(), physicsRate)
-	p, graph, err := rg.Build(sim.Options{PhysicsRate: physicsRate, ControlRate: rate, RecordCapacity: 2})
+	p, graph, err := rg.Build(plantOptions(rate))
 	if err != nil {
 		return nil, nil, err
 	}
-	sp := &simPlant{p: p, perTick: max(1, int(math.Round(physicsRate/rate))), rec: p.Recorder()}
+	sp := wrapPlant(p, rate)
 	if graph == nil {
 		// Not graph itself: a nil *control.Graph is a non-nil Tuner.
 		return sp, nil, nil

@@ -63,7 +63,10 @@ type Window struct {
 	live   *models.Robot // the robot as run: with the window's parameter changes
 	path   string        // the file it came from, for Save ("" for a built-in)
 	spec   *control.Spec
-	params []control.ParamInfo // file values
+	// program, when it holds one, is the controller program that drives
+	// the robot in place of spec; the runner's builds read it.
+	program *atomic.Pointer[rig.Program]
+	params  []control.ParamInfo // file values
 	gains  map[string]float64  // current values as set from the window
 	rparam map[string]float64  // robot parameter changes from the window
 	rorder []string            // their paths, in the order last changed
@@ -126,11 +129,12 @@ func newWindow(a fyne.App, opts Options, build live.Build[sim.Snapshot]) (*Windo
 	if err != nil {
 		return nil, err
 	}
-	run, err := live.New(live.Config[sim.Snapshot]{Robot: robot.Clone(), Build: build, TraceSeconds: 120})
+	program := new(atomic.Pointer[rig.Program])
+	run, err := live.New(live.Config[sim.Snapshot]{Robot: robot.Clone(), Build: withProgram(program, build), TraceSeconds: 120})
 	if err != nil {
 		return nil, err
 	}
-	w := &Window{app: a, run: run, keyShove: 2, window: 10}
+	w := &Window{app: a, run: run, program: program, keyShove: 2, window: 10}
 	w.win = a.NewWindow("teeter")
 	w.applyLook()
 	w.build()
@@ -291,7 +295,7 @@ func (w *Window) build() {
 
 	w.gainBox = container.NewVBox()
 	w.blockBox = container.NewVBox()
-	w.graph = newCascadeView(w.showBlock)
+	w.graph = newCascadeView(w.showBlock, w.noGraphText)
 	w.robotBox = container.NewVBox()
 	w.shoves = newShovePanel(w)
 	w.study = newStudiesPanel(w)
@@ -425,7 +429,7 @@ func (w *Window) setModel(r *models.Robot, path string, spec *control.Spec) {
 	}
 	w.buildGainRows()
 	w.buildStepButtons()
-	w.graph.setSpec(spec)
+	w.graph.setSpec(w.drawnSpec())
 	w.blockBox.Objects = []fyne.CanvasObject{widget.NewLabel("Select a block to see its parameters.")}
 	w.blockBox.Refresh()
 	w.buildRobotRows()
@@ -508,7 +512,11 @@ func (w *Window) refresh() {
 	case st.Fallen:
 		w.showBanner(fmt.Sprintf("Fallen at %.2f s: %s — Reset (R) puts it back", st.FallTime, st.FallReason))
 	default:
-		w.banner.Hide()
+		if n := w.controllerNotice(); n != "" {
+			w.showBanner(n)
+		} else {
+			w.banner.Hide()
+		}
 	}
 	if st.Notice != "" && st.Restarts > 0 {
 		w.notice.SetText(st.Notice)
