@@ -59,18 +59,18 @@ type Window struct {
 	win fyne.Window
 	run *runner
 
-	robot  *models.Robot // the robot as loaded, before live parameter changes
-	live   *models.Robot // the robot as run: with the window's parameter changes
-	path   string        // the file it came from, for Save ("" for a built-in)
-	spec   *control.Spec
+	robot *models.Robot // the robot as loaded, before live parameter changes
+	live  *models.Robot // the robot as run: with the window's parameter changes
+	path  string        // the file it came from, for Save ("" for a built-in)
+	spec  *control.Spec
 	// program, when it holds one, is the controller program that drives
 	// the robot in place of spec; the runner's builds read it.
 	program *atomic.Pointer[rig.Program]
 	params  []control.ParamInfo // file values
-	gains  map[string]float64  // current values as set from the window
-	rparam map[string]float64  // robot parameter changes from the window
-	rorder []string            // their paths, in the order last changed
-	hist   history
+	gains   map[string]float64  // current values as set from the window
+	rparam  map[string]float64  // robot parameter changes from the window
+	rorder  []string            // their paths, in the order last changed
+	hist    history
 
 	view    *robotView
 	traces  *tracesView
