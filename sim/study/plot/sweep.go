@@ -86,78 +86,93 @@ func sweepFigure(s *sweep.Result, opt Options) (*figure, error) {
 	if mi < 0 {
 		return nil, fmt.Errorf("the sweep has no metric %q (it has %s)", opt.Metric, strings.Join(s.Metrics, ", "))
 	}
-	unit, scale := display(s.Units[mi])
-	name := label(s.Metrics[mi], unit)
-	p := newPlot()
 	switch len(s.Axes) {
 	case 1:
-		xLabel, xScale := axisOf(s, 0)
-		var mean, worst plotter.XYs
-		for _, pt := range s.Points {
-			x := pt.Values[0] * xScale
-			if v := pt.Metrics[mi]; finite(v) {
-				mean = append(mean, plotter.XY{X: x, Y: v * scale})
-			}
-			if v := pt.Worst[mi]; finite(v) {
-				worst = append(worst, plotter.XY{X: x, Y: v * scale})
-			}
-		}
-		if len(mean) == 0 {
-			return nil, fmt.Errorf("no point has a finite %s", s.Metrics[mi])
-		}
-		p.Add(plotter.NewGrid())
-		if err := addLine(p, mean, fmt.Sprintf("mean of %d seeds", s.Seeds), color.NRGBA{R: 0x31, G: 0x68, B: 0x8e, A: 0xff}); err != nil {
-			return nil, err
-		}
-		if s.Seeds > 1 {
-			if err := addLine(p, worst, "worst seed", color.NRGBA{R: 0xc0, G: 0x20, B: 0x20, A: 0xff}); err != nil {
-				return nil, err
-			}
-		}
-		p.Legend.Top = true
-		p.X.Label.Text, p.Y.Label.Text = xLabel, name
-		p.Title.Text = s.Metrics[mi] + " against " + s.Axes[0]
-		if opt.HasThreshold {
-			at := plotter.NewFunction(func(float64) float64 { return opt.Threshold * scale })
-			at.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
-			p.Add(at)
-			p.Legend.Add(fmt.Sprintf("threshold %g", opt.Threshold*scale), at)
-		}
-		// Room round the ends, so the first and last points are whole.
-		p.X.Min, p.X.Max = mean[0].X, mean[len(mean)-1].X
-		pad(&p.X, 0.04)
-		return &figure{main: p}, nil
+		return lineFigure(s, opt, mi)
 	case 2:
-		g, err := newSweepGrid(s, mi, scale)
-		if err != nil {
-			return nil, err
-		}
-		hm := plotter.NewHeatMap(g, viridisPalette(256))
-		if hm.Min > hm.Max {
-			return nil, fmt.Errorf("no point has a finite %s", s.Metrics[mi])
-		}
-		if hm.Min == hm.Max {
-			hm.Max = hm.Min + 1
-		}
-		hm.NaN = color.Gray{Y: 0xbb}
-		p.Add(hm)
-		f := &figure{main: p}
-		p.X.Label.Text, _ = axisOf(s, 1)
-		p.Y.Label.Text, _ = axisOf(s, 0)
-		p.Title.Text = fmt.Sprintf("%s, worst of %d seeds", s.Metrics[mi], s.Seeds)
-		if opt.HasThreshold {
-			f.contour = contour(g.xs, g.ys, g.z, opt.Threshold*scale)
-			p.Add(contourLines(f.contour))
-			p.Title.Text += fmt.Sprintf("; white: %g", opt.Threshold*scale)
-			if unit != "" {
-				p.Title.Text += " " + unit
-			}
-		}
-		f.bar = colourBar(hm.Min, hm.Max, name)
-		return f, nil
+		return heatFigure(s, opt, mi)
 	default:
 		return nil, fmt.Errorf("can plot 1 or 2 parameters, not %d", len(s.Axes))
 	}
+}
+
+// lineFigure draws metric mi of a 1-D sweep: its mean and its worst seed
+// over the parameter.
+func lineFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
+	unit, scale := display(s.Units[mi])
+	name := label(s.Metrics[mi], unit)
+	p := newPlot()
+	xLabel, xScale := axisOf(s, 0)
+	var mean, worst plotter.XYs
+	for _, pt := range s.Points {
+		x := pt.Values[0] * xScale
+		if v := pt.Metrics[mi]; finite(v) {
+			mean = append(mean, plotter.XY{X: x, Y: v * scale})
+		}
+		if v := pt.Worst[mi]; finite(v) {
+			worst = append(worst, plotter.XY{X: x, Y: v * scale})
+		}
+	}
+	if len(mean) == 0 {
+		return nil, fmt.Errorf("no point has a finite %s", s.Metrics[mi])
+	}
+	p.Add(plotter.NewGrid())
+	if err := addLine(p, mean, fmt.Sprintf("mean of %d seeds", s.Seeds), color.NRGBA{R: 0x31, G: 0x68, B: 0x8e, A: 0xff}); err != nil {
+		return nil, err
+	}
+	if s.Seeds > 1 {
+		if err := addLine(p, worst, "worst seed", color.NRGBA{R: 0xc0, G: 0x20, B: 0x20, A: 0xff}); err != nil {
+			return nil, err
+		}
+	}
+	p.Legend.Top = true
+	p.X.Label.Text, p.Y.Label.Text = xLabel, name
+	p.Title.Text = s.Metrics[mi] + " against " + s.Axes[0]
+	if opt.HasThreshold {
+		at := plotter.NewFunction(func(float64) float64 { return opt.Threshold * scale })
+		at.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+		p.Add(at)
+		p.Legend.Add(fmt.Sprintf("threshold %g", opt.Threshold*scale), at)
+	}
+	// Room round the ends, so the first and last points are whole.
+	p.X.Min, p.X.Max = mean[0].X, mean[len(mean)-1].X
+	pad(&p.X, 0.04)
+	return &figure{main: p}, nil
+}
+
+// heatFigure draws the worst seed's metric mi of a 2-D sweep as a heat map
+// with a colour bar.
+func heatFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
+	unit, scale := display(s.Units[mi])
+	name := label(s.Metrics[mi], unit)
+	p := newPlot()
+	g, err := newSweepGrid(s, mi, scale)
+	if err != nil {
+		return nil, err
+	}
+	hm := plotter.NewHeatMap(g, viridisPalette(256))
+	if hm.Min > hm.Max {
+		return nil, fmt.Errorf("no point has a finite %s", s.Metrics[mi])
+	}
+	if hm.Min == hm.Max {
+		hm.Max = hm.Min + 1
+	}
+	hm.NaN = color.Gray{Y: 0xbb}
+	p.Add(hm)
+	f := &figure{main: p}
+	p.X.Label.Text, _ = axisOf(s, 1)
+	p.Y.Label.Text, _ = axisOf(s, 0)
+	p.Title.Text = fmt.Sprintf("%s, worst of %d seeds", s.Metrics[mi], s.Seeds)
+	if opt.HasThreshold {
+		f.contour = contour(g.xs, g.ys, g.z, opt.Threshold*scale)
+		p.Add(contourLines(f.contour))
+		p.Title.Text += fmt.Sprintf("; white: %g", opt.Threshold*scale)
+		if unit != "" {
+			p.Title.Text += " " + unit
+		}
+	}
+	f.bar = colourBar(hm.Min, hm.Max, name)
+	return f, nil
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
