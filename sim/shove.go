@@ -93,24 +93,8 @@ func ParseShove(spec string) (Shove, error) {
 			s.Point = &pt
 		case "dir":
 			haveDir = true
-			switch strings.ToLower(val) {
-			case "right", "forward":
-				angle = 0
-			case "left", "back":
-				angle = math.Pi
-			case "up":
-				angle = math.Pi / 2
-			case "down":
-				angle = -math.Pi / 2
-			default:
-				text := val
-				if !strings.ContainsAny(text, "abcdefghijklmnopqrstuvwxyz°") {
-					text += " deg" // a bare number is degrees here
-				}
-				angle, _, err = models.ParseQuantity(text, models.Angle)
-				if err != nil {
-					return fail("dir %q is not left, right, forward, back, up, down or an angle in degrees", val)
-				}
+			if angle, ok = shoveAngle(val); !ok {
+				return fail("dir %q is not left, right, forward, back, up, down or an angle in degrees", val)
 			}
 		default:
 			return fail("unknown key %q (want at, impulse, dir, link, point, hold)", key)
@@ -124,6 +108,26 @@ func ParseShove(spec string) (Shove, error) {
 	}
 	s.Impulse = models.Vec2{X: magnitude * math.Cos(angle), Y: magnitude * math.Sin(angle)}
 	return s, nil
+}
+
+// shoveAngle is the angle of a shove's dir, counter-clockwise from +x.
+func shoveAngle(dir string) (float64, bool) {
+	switch strings.ToLower(dir) {
+	case "right", "forward":
+		return 0, true
+	case "left", "back":
+		return math.Pi, true
+	case "up":
+		return math.Pi / 2, true
+	case "down":
+		return -math.Pi / 2, true
+	}
+	text := dir
+	if !strings.ContainsAny(text, "abcdefghijklmnopqrstuvwxyz°") {
+		text += " deg" // a bare number is degrees here
+	}
+	angle, _, err := models.ParseQuantity(text, models.Angle)
+	return angle, err == nil
 }
 
 func (p *Plant) checkShove(s *Shove) error {
