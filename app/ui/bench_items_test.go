@@ -392,4 +392,23 @@ func TestSmallThingsReadRight(t *testing.T) {
 	if lo, hi := shownRange(0, 0, f); math.Abs(lo*f+1.16) > 1e-9 || math.Abs(hi*f-1.16) > 1e-9 {
 		t.Errorf("an all-zero angle trace shows %.3g to %.3g deg", lo*f, hi*f)
 	}
+	// An impulse entry speaks N·s as the rest of the window and takes it
+	// back; Help lists a pad's end-stop share.
+	var got float64
+	ns := newNumberField("N*s", 0, 100, func(v float64) { got = v })
+	if ns.show(1.5); ns.Entry.Text != "1.5 N·s" || !ns.submit("2 N·s") || got != 2 {
+		t.Errorf("an impulse entry shows %q and took %g for 2 N·s", ns.Entry.Text, got)
+	}
+	if !strings.Contains(h, "**.stop** (N)") {
+		t.Error("Help does not explain a pad's .stop column")
+	}
+	// A refused pad travel in mm is refused in mm (1 mm = 0.001 m).
+	r, err := models.Load("builtin:frontal")
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = models.SetParam(r, "feet.pad_travel", -0.001)
+	if got := inEntryUnit(err, "feet.pad_travel", -0.001, "m"); got != "-1 mm must not be negative" {
+		t.Errorf("a negative pad travel is refused with %q", got)
+	}
 }

@@ -36,8 +36,9 @@ func kindOfUnit(unit string) (models.Kind, bool) {
 }
 
 // friendlyUnit is the unit the window shows for an SI unit, and the factor
-// from SI to it: degrees for angles, millimetres for lengths. Everything
-// inside stays SI; only entries, labels and readouts use these.
+// from SI to it: degrees for angles, millimetres for lengths, a middle dot
+// for a product (N·s). Everything inside stays SI; only entries, labels and
+// readouts use these.
 func friendlyUnit(si string) (string, float64) {
 	switch si {
 	case "rad":
@@ -49,7 +50,7 @@ func friendlyUnit(si string) (string, float64) {
 	case "m/s":
 		return "mm/s", 1000
 	}
-	return si, 1
+	return strings.ReplaceAll(si, "*", "·"), 1
 }
 
 // parseValue reads an entry's text as a quantity of the given SI unit

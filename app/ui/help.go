@@ -46,10 +46,9 @@ Robot entries set the robot as it starts: the ballast start position is where th
 
 `)
 	for _, m := range signalMeanings {
-		// A middle dot, as markdown would read the * of N*m as emphasis.
 		unit := ""
 		if m.Unit != "" {
-			unit = " (" + strings.ReplaceAll(shownUnits(m.Unit), "*", "·") + ")"
+			unit = " (" + shownUnits(m.Unit) + ")"
 		}
 		fmt.Fprintf(&b, "- **%s**%s: %s\n", m.Suffix, unit, m.Meaning)
 	}

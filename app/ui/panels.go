@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
@@ -345,7 +346,7 @@ func (w *Window) buildRobotRows() {
 			// the entry and is never applied.
 			probe := w.currentRobot()
 			if err := models.SetParam(probe, rp.Path, v); err != nil {
-				f.Reason.SetText(err.Error())
+				f.Reason.SetText(inEntryUnit(err, rp.Path, v, rp.Unit))
 				f.Reason.Show()
 				return
 			}
@@ -360,6 +361,15 @@ func (w *Window) buildRobotRows() {
 		w.robotBox.Add(container.NewBorder(nil, nil, widget.NewLabel(rp.Label), nil, f.object()))
 	}
 	w.robotBox.Refresh()
+}
+
+// inEntryUnit words an error of models.SetParam, which gives the value in
+// SI ("parameter P: V reason"), with the value in the entry's own unit.
+func inEntryUnit(err error, path string, v float64, unit string) string {
+	if reason, ok := strings.CutPrefix(err.Error(), fmt.Sprintf("parameter %q: %g ", path, v)); ok {
+		return formatValue(v, unit) + " " + reason
+	}
+	return err.Error()
 }
 
 func (w *Window) applyRobotParam(path string, v float64) {

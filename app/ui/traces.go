@@ -28,6 +28,7 @@ var signalMeanings = []struct{ Suffix, Unit, Meaning string }{
 	{".force", "N or N*m", "an actuator's load, or the normal force on a foot pad"},
 	{".current", "A", "current drawn by an actuator or from the battery"},
 	{".compression", "m", "how far a foot pad is pushed in"},
+	{".stop", "N", "the share of a foot pad's normal force its end stop carries, once pushed in past its travel"},
 	{"com.x", "m", "centre of mass, horizontal; com.y vertical"},
 	{"cop.x", "m", "centre of pressure on the ground"},
 	{"torso_tilt", "rad", "true tilt of the watched link, for the fall check"},
