@@ -59,12 +59,22 @@ func TestEraMassSpringDamper(t *testing.T) {
 }
 
 // pdPendulum is the built-in pendulum on a backdrivable torque motor at the
-// ankle (torque = torque per unit command times the command), with a PD
+// ankle (torque = 20 N*m per unit command times the command), with a PD
 // controller u = -a*tilt - b*rate at the physics rate, no sensor latency,
 // no joint friction, and stiff, well-damped pads so that the foot stays
-// put.
-func pdPendulum(t *testing.T, a, b, torque float64) *rig.Rig {
+// put. a and b place the closed loop's roots at wn, zeta by the linearised
+// inverted pendulum's characteristic equation
+// I s^2 + (K b + c) s + (K a - m g d) = 0 (e.g. Ogata, ch. 3), with I the
+// pole's inertia about the ankle (parallel-axis theorem), d the
+// ankle-to-centre-of-mass distance, c the joint's viscous damping, g
+// standard gravity and K the torque per unit command.
+func pdPendulum(t *testing.T, wn, zeta float64) *rig.Rig {
 	t.Helper()
+	const mass, icom, d, c, g = 1.5, 0.069, 0.633, 0.02, 9.80665 // from models/builtin/pendulum.yaml
+	const torque = 20.0                                          // N*m per unit command
+	inertia := icom + mass*d*d
+	a := (inertia*wn*wn + mass*g*d) / torque
+	b := (2*zeta*wn*inertia - c) / torque
 	base, err := rig.Load("builtin:pendulum", "", "")
 	if err != nil {
 		t.Fatal(err)
@@ -110,19 +120,10 @@ controller:
 }
 
 func TestModesOfPDPendulum(t *testing.T) {
-	// Linearised inverted pendulum on a torque-controlled ankle:
-	// I s^2 + (K b + c) s + (K a - m g d) = 0 (the inverted pendulum's
-	// characteristic equation, e.g. Ogata, ch. 3), with I the pole's inertia
-	// about the ankle (parallel-axis theorem), d the ankle-to-centre-of-mass
-	// distance, c the joint's viscous damping and g standard gravity.
-	const mass, icom, d, c, g = 1.5, 0.069, 0.633, 0.02, 9.80665 // from models/builtin/pendulum.yaml
-	const torque = 20.0                                          // N*m per unit command
-	inertia := icom + mass*d*d
-	wn := 2 * math.Pi * 2.0
-	zeta := 0.3
-	a := (inertia*wn*wn + mass*g*d) / torque
-	b := (2*zeta*wn*inertia - c) / torque
-	modes, err := Identify(pdPendulum(t, a, b, torque), Options{Span: 3})
+	// The PD pendulum's roots placed at 2 Hz, zeta 0.3 by the inverted
+	// pendulum's characteristic equation (see pdPendulum; Ogata, ch. 3).
+	wn, zeta := 2*math.Pi*2.0, 0.3
+	modes, err := Identify(pdPendulum(t, wn, zeta), Options{Span: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -192,14 +193,8 @@ func TestLinearisedPDPendulum(t *testing.T) {
 	// The same pendulum and characteristic equation as
 	// TestModesOfPDPendulum (Ogata, ch. 3), its modes now from the
 	// eigenvalues of the closed loop linearised by finite differences.
-	const mass, icom, d, c, g = 1.5, 0.069, 0.633, 0.02, 9.80665 // from models/builtin/pendulum.yaml
-	const torque = 20.0                                          // N*m per unit command
-	inertia := icom + mass*d*d
-	wn := 2 * math.Pi * 2.0
-	zeta := 0.3
-	a := (inertia*wn*wn + mass*g*d) / torque
-	b := (2*zeta*wn*inertia - c) / torque
-	lin, err := Linearise(pdPendulum(t, a, b, torque), Options{})
+	wn, zeta := 2*math.Pi*2.0, 0.3
+	lin, err := Linearise(pdPendulum(t, wn, zeta), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
