@@ -42,7 +42,7 @@ import (
 // studyJob is the running part every study shares.
 type studyJob struct {
 	startBtn, cancelBtn *widget.Button
-	bar                 *widget.ProgressBar
+	bar                 *meter
 	status              *widget.Label
 	result              *fyne.Container
 	cancel              context.CancelFunc
@@ -53,7 +53,7 @@ type studyJob struct {
 }
 
 func newStudyJob(title string, start func(), do func(func())) *studyJob {
-	j := &studyJob{bar: widget.NewProgressBar(), status: widget.NewLabel(""), result: container.NewVBox(), do: do}
+	j := &studyJob{bar: newMeter(), status: widget.NewLabel(""), result: container.NewVBox(), do: do}
 	j.status.Wrapping = fyne.TextWrapWord
 	j.startBtn = widget.NewButtonWithIcon(title, theme.MediaPlayIcon(), start)
 	j.cancelBtn = widget.NewButtonWithIcon("Cancel", theme.CancelIcon(), func() {
