@@ -36,21 +36,28 @@ func frontalNames() ([]string, []string) {
 	return models.Channels(robot), models.ActuatorNames(robot)
 }
 
+// frontalGraph builds the named built-in controller for the built-in
+// frontal robot, with a reading for each of its channels and a command for
+// each of its actuators.
+func frontalGraph(t testing.TB, controller string) (g *Graph, readings, commands []float64) {
+	t.Helper()
+	channels, actuators := frontalNames()
+	spec, err := Builtin(controller)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, err = Build(spec, channels, actuators)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return g, make([]float64, len(channels)), make([]float64, len(actuators))
+}
+
 func TestTickAllocatesNothing(t *testing.T) {
 	// DEVELOPERS.md: the hot loop allocates nothing; measured with
 	// testing.AllocsPerRun, both plain ticks and ticks that apply a
 	// parameter change and an event request.
-	channels, actuators := frontalNames()
-	spec, err := Builtin("frontal")
-	if err != nil {
-		t.Fatal(err)
-	}
-	g, err := Build(spec, channels, actuators)
-	if err != nil {
-		t.Fatal(err)
-	}
-	readings := make([]float64, len(channels))
-	commands := make([]float64, len(actuators))
+	g, readings, commands := frontalGraph(t, "frontal")
 	signals := make([]float64, len(g.SignalNames()))
 	now := 0.0
 	allocs := testing.AllocsPerRun(500, func() {
@@ -84,12 +91,7 @@ func TestTickAllocatesNothing(t *testing.T) {
 func TestSetWhileTickingIsRaceFree(t *testing.T) {
 	// Set and Request come from the window's goroutine while the plant
 	// ticks; run under go test -race this checks the locking.
-	channels, actuators := frontalNames()
-	spec, _ := Builtin("frontal")
-	g, err := Build(spec, channels, actuators)
-	if err != nil {
-		t.Fatal(err)
-	}
+	g, readings, commands := frontalGraph(t, "frontal")
 	done := make(chan bool)
 	go func() {
 		for i := 0; i < 200; i++ {
@@ -99,8 +101,6 @@ func TestSetWhileTickingIsRaceFree(t *testing.T) {
 		}
 		done <- true
 	}()
-	readings := make([]float64, len(channels))
-	commands := make([]float64, len(actuators))
 	for k := 0; k < 2000; k++ {
 		g.Tick(float64(k)/200, readings, commands)
 	}
@@ -173,14 +173,7 @@ func TestScrewDirectionsMatchGeometry(t *testing.T) {
 }
 
 func BenchmarkFrontalTick(b *testing.B) {
-	channels, actuators := frontalNames()
-	spec, _ := Builtin("frontal")
-	g, err := Build(spec, channels, actuators)
-	if err != nil {
-		b.Fatal(err)
-	}
-	readings := make([]float64, len(channels))
-	commands := make([]float64, len(actuators))
+	g, readings, commands := frontalGraph(b, "frontal")
 	b.ReportAllocs()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {

@@ -4,8 +4,6 @@ import (
 	"math"
 	"slices"
 	"testing"
-
-	"teeter/models"
 )
 
 // The state of a system at one time and its inputs from then on determine
@@ -13,18 +11,8 @@ import (
 // Engineering, ch. 9). So a graph set back to a saved state and given the
 // same readings must repeat its commands exactly, whatever ran between.
 func TestSavedStateRepeatsTheCommands(t *testing.T) {
-	channels, actuators := frontalNames()
 	for _, name := range []string{"frontal", "frontal_stepping"} {
-		spec, err := Builtin(name)
-		if err != nil {
-			t.Fatal(err)
-		}
-		g, err := Build(spec, channels, actuators)
-		if err != nil {
-			t.Fatal(err)
-		}
-		readings := make([]float64, len(channels))
-		commands := make([]float64, len(actuators))
+		g, readings, commands := frontalGraph(t, name)
 		drive := func(k int) []float64 {
 			for i := range readings {
 				readings[i] = 0.05 * math.Sin(0.07*float64(k*(i+1)))
@@ -53,18 +41,7 @@ func TestSavedStateRepeatsTheCommands(t *testing.T) {
 func TestStateIOAllocatesNothing(t *testing.T) {
 	// DEVELOPERS.md: the hot loop allocates nothing; a linearisation saves
 	// and loads the state once per column.
-	robot, err := models.Load("builtin:frontal")
-	if err != nil {
-		t.Fatal(err)
-	}
-	spec, err := Builtin("frontal")
-	if err != nil {
-		t.Fatal(err)
-	}
-	g, err := Build(spec, models.Channels(robot), models.ActuatorNames(robot))
-	if err != nil {
-		t.Fatal(err)
-	}
+	g, _, _ := frontalGraph(t, "frontal")
 	state := make([]float64, g.StateLen())
 	if n := testing.AllocsPerRun(100, func() { g.SaveState(state); g.LoadState(state) }); n != 0 {
 		t.Errorf("%v allocations per save and load", n)
