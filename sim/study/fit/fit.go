@@ -34,6 +34,7 @@ import (
 
 	"golang.org/x/sync/errgroup"
 	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat"
 
 	"teeter/models"
 	"teeter/sim"
@@ -340,16 +341,7 @@ func noiseOf(x []float64) float64 {
 		d = append(d, x[i+1]-2*x[i]+x[i-1])
 	}
 	s := 1.4826 * mad(d) / math.Sqrt(6)
-	mean, sq := 0.0, 0.0
-	for _, v := range x {
-		mean += v
-	}
-	mean /= float64(len(x))
-	for _, v := range x {
-		sq += (v - mean) * (v - mean)
-	}
-	spread := math.Sqrt(sq / float64(len(x)))
-	return math.Max(s, 1e-3*spread)
+	return math.Max(s, 1e-3*stat.PopStdDev(x, nil))
 }
 
 func mad(d []float64) float64 {

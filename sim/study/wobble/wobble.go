@@ -13,6 +13,8 @@ import (
 	"slices"
 	"sort"
 
+	"gonum.org/v1/gonum/stat"
+
 	"teeter/models"
 	"teeter/sim"
 	"teeter/sim/rig"
@@ -623,20 +625,8 @@ func simulate(r *rig.Rig, actuators []string, spec Spec) (*Simulated, error) {
 	s.TiltAmp, s.FrequencyHz = a*180/math.Pi, f
 	// A sine of amplitude a has an RMS of a/sqrt(2); most of the swing's
 	// RMS in that one line makes it the dominant harmonic (common practice).
-	s.Dominant = a/math.Sqrt2 > 0.7*rmsAboutMean(tilt)
+	s.Dominant = a/math.Sqrt2 > 0.7*stat.PopStdDev(tilt, nil)
 	s.ScrewAmp, _ = metric.SpectralPeak(o.Rec.Column(actuator + ".screw")[i:], dt)
 	s.OutputAmp, _ = metric.SpectralPeak(o.Rec.Column(actuator + ".output")[i:], dt)
 	return s, nil
-}
-
-func rmsAboutMean(y []float64) float64 {
-	mean, ss := 0.0, 0.0
-	for _, v := range y {
-		mean += v
-	}
-	mean /= float64(len(y))
-	for _, v := range y {
-		ss += (v - mean) * (v - mean)
-	}
-	return math.Sqrt(ss / float64(len(y)))
 }
