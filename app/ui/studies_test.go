@@ -32,6 +32,14 @@ func uiThread(w *Window) (pump func(done <-chan struct{})) {
 	}
 }
 
+// openStudies opens the pendulum's window for a study test: the window,
+// its study panel and the pump of its UI thread.
+func openStudies(t *testing.T) (*Window, *studiesPanel, func(done <-chan struct{})) {
+	t.Helper()
+	w, _ := openTest(t, "builtin:pendulum")
+	return w, w.study, uiThread(w)
+}
+
 func labels(o fyne.CanvasObject) []string {
 	var out []string
 	var walk func(o fyne.CanvasObject)
@@ -68,9 +76,7 @@ func readCSV(t *testing.T, pattern string) [][]string {
 }
 
 func TestMarginStudyFromTheWindow(t *testing.T) {
-	w, _ := openTest(t, "builtin:pendulum")
-	pump := uiThread(w)
-	p := w.study
+	_, p, pump := openStudies(t)
 	p.mDirs.SetText("left, right")
 	p.mSettle.Entry.SetText("0.5 s")
 	p.mTol.Entry.SetText("1")
@@ -137,9 +143,7 @@ func hasImage(o fyne.CanvasObject) bool {
 }
 
 func TestSweepStudyShowsItsPlotAndCancelKeepsPoints(t *testing.T) {
-	w, _ := openTest(t, "builtin:pendulum")
-	pump := uiThread(w)
-	p := w.study
+	_, p, pump := openStudies(t)
 	p.sAxis1.SetText("actuators.backlash=0:1mm:2")
 	p.sAxis2.SetText("")
 	p.sMetric.SetSelected("peak_tilt")
@@ -192,9 +196,7 @@ func TestSweepStudyShowsItsPlotAndCancelKeepsPoints(t *testing.T) {
 }
 
 func TestTuneStudyAppliesItsGains(t *testing.T) {
-	w, _ := openTest(t, "builtin:pendulum")
-	pump := uiThread(w)
-	p := w.study
+	w, p, pump := openStudies(t)
 	if p.tPaths.Text == "" {
 		t.Fatal("no gains proposed for tuning")
 	}
