@@ -127,11 +127,18 @@ func TestModesOfPDPendulum(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	checkDominant(t, "identified", modes, wn, zeta, 0.03, 0.05)
+}
+
+// checkDominant compares the dominant mode with the roots wn, zeta, within
+// relative tolerances on the frequency and on zeta.
+func checkDominant(t *testing.T, how string, modes []Mode, wn, zeta, freqTol, zetaTol float64) {
+	t.Helper()
 	got := dominant(modes)
 	t.Logf("modes:\n%s", Table(modes, 0))
 	t.Logf("dominant %.4f Hz, zeta %.4f; characteristic equation %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
-	if math.Abs(got.FrequencyHz*2*math.Pi-wn)/wn > 0.03 || math.Abs(got.Damping-zeta)/zeta > 0.05 {
-		t.Errorf("identified %.4f Hz, zeta %.4f; want %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
+	if math.Abs(got.FrequencyHz*2*math.Pi-wn)/wn > freqTol || math.Abs(got.Damping-zeta)/zeta > zetaTol {
+		t.Errorf("%s %.4f Hz, zeta %.4f; want %.4f Hz, zeta %.4f", how, got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
 	}
 }
 
@@ -202,14 +209,9 @@ func TestLinearisedPDPendulum(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	got := dominant(modes)
-	t.Logf("modes:\n%s", Table(modes, 0))
-	t.Logf("dominant %.4f Hz, zeta %.4f; characteristic equation %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
 	// The loop is sampled at 1 kHz and the foot sits on stiff pads, which
 	// the equation leaves out: allow 1 % on the frequency, 3 % on zeta.
-	if math.Abs(got.FrequencyHz*2*math.Pi-wn)/wn > 0.01 || math.Abs(got.Damping-zeta)/zeta > 0.03 {
-		t.Errorf("linearised %.4f Hz, zeta %.4f; want %.4f Hz, zeta %.4f", got.FrequencyHz, got.Damping, wn/(2*math.Pi), zeta)
-	}
+	checkDominant(t, "linearised", modes, wn, zeta, 0.01, 0.03)
 	for _, m := range modes {
 		if m.Unstable() {
 			t.Errorf("the stable PD pendulum has an unstable mode: %+v", m)
