@@ -6,6 +6,8 @@ import (
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
+
+	"teeter/sim/study/plot"
 )
 
 // teeter's look: one palette for everything the window draws itself (the
@@ -165,4 +167,11 @@ func wrapped(text string) *widget.Label {
 	l := widget.NewLabel(text)
 	l.Wrapping = fyne.TextWrapWord
 	return l
+}
+
+// plotStyle is the study plots' look in the palette in use, so a plot sits
+// in the window like its other panels. Read it on the UI goroutine: the
+// palette changes with the system's setting.
+func plotStyle() plot.Style {
+	return plot.Style{Paper: pal.Paper, Ink: pal.Ink, Grid: pal.Grid, Mean: pal.Traces[0], Worst: pal.Alarm}
 }

@@ -289,7 +289,7 @@ func (p *studiesPanel) startMargin() {
 	}
 	spec := margin.Spec{Link: strings.TrimSpace(p.mLink.Text), Dirs: splitList(p.mDirs.Text),
 		Settle: vals[0], Tol: vals[1], Max: vals[2], Seeds: int(vals[3]), Workers: workers()}
-	r := p.rig()
+	r, look := p.rig(), plotStyle()
 	p.margin.run(func(ctx context.Context, progress func(float64)) func() {
 		spec.Progress = fraction(progress)
 		res, err := margin.Find(ctx, r, spec)
@@ -298,7 +298,7 @@ func (p *studiesPanel) startMargin() {
 		}
 		// Draw off the UI thread; the plot is read back to show.
 		var img image.Image
-		pngFile, plotErr := autoSave("margin", ".png", func(path string) error { return plot.Margin(res, path) })
+		pngFile, plotErr := autoSave("margin", ".png", func(path string) error { return plot.Margin(res, look, path) })
 		if plotErr == nil {
 			img, plotErr = readPNG(pngFile)
 		}
@@ -425,7 +425,7 @@ func (p *studiesPanel) startSweep() {
 	}
 	spec := sweep.Spec{Axes: axes, Metrics: metrics, Duration: vals[0], Seeds: int(vals[1]), Shoves: shoves, Workers: workers()}
 	threshold := p.sThreshold.Text
-	r := p.rig()
+	r, look := p.rig(), plotStyle()
 	j.run(func(ctx context.Context, progress func(float64)) func() {
 		spec.Progress = fraction(progress)
 		res, err := sweep.Run(ctx, r, spec)
@@ -436,6 +436,7 @@ func (p *studiesPanel) startSweep() {
 		if optErr != nil {
 			return func() { j.status.SetText(optErr.Error()) }
 		}
+		opt.Style = look
 		// Save and draw off the UI thread; the plot is read back to show.
 		csvFile, csvErr := autoSave("sweep", ".csv", func(path string) error { return writeSweepCSV(path, res) })
 		var img image.Image

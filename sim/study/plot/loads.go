@@ -19,7 +19,7 @@ func Loads(res *loads.Result, file string) error {
 			names = append(names, p.Name)
 		}
 	}
-	pl := newPlot()
+	pl := newPlot(Plain)
 	pl.Title.Text = "peak load over the shoves, worst first"
 	pl.Y.Label.Text = label("share of stall or rated load", "%")
 	if len(vals) > 0 {
@@ -31,7 +31,7 @@ func Loads(res *loads.Result, file string) error {
 		pl.Add(bars)
 		pl.NominalX(names...)
 		pl.X.Tick.Label.Rotation = 0.6
-		pl.Add(plotter.NewGrid())
+		pl.Add(grid(Plain))
 		// Where a part is at its limit.
 		limit, err := plotter.NewLine(plotter.XYs{{X: -0.5, Y: 100}, {X: float64(len(vals)) - 0.5, Y: 100}})
 		if err != nil {

@@ -2,7 +2,6 @@ package plot
 
 import (
 	"fmt"
-	"image/color"
 	"math"
 
 	"gonum.org/v1/plot/plotter"
@@ -16,19 +15,19 @@ import (
 // each seed's largest survived shove as a dot, the impulse every seed
 // survived as a bar, and the smallest shove that felled any seed as a
 // cross.
-func Margin(res []margin.Result, file string) error {
-	f, err := marginFigure(res)
+func Margin(res []margin.Result, st Style, file string) error {
+	f, err := marginFigure(res, st.filled())
 	if err != nil {
 		return fmt.Errorf("plot %s: %v", file, err)
 	}
 	return f.write(file)
 }
 
-func marginFigure(res []margin.Result) (*figure, error) {
+func marginFigure(res []margin.Result, st Style) (*figure, error) {
 	if len(res) == 0 {
 		return nil, fmt.Errorf("no direction to plot")
 	}
-	p := newPlot()
+	p := newPlot(st)
 	var seeds, trusted, felled plotter.XYs
 	names := make([]string, len(res))
 	top := 0.0
@@ -49,13 +48,13 @@ func marginFigure(res []margin.Result) (*figure, error) {
 	if err != nil {
 		return nil, err
 	}
-	dots.GlyphStyle = draw.GlyphStyle{Shape: draw.CircleGlyph{}, Radius: vg.Points(3), Color: color.NRGBA{R: 0x31, G: 0x68, B: 0x8e, A: 0xff}}
+	dots.GlyphStyle = draw.GlyphStyle{Shape: draw.CircleGlyph{}, Radius: vg.Points(3), Color: st.Mean}
 	bars, err := plotter.NewScatter(trusted)
 	if err != nil {
 		return nil, err
 	}
-	bars.GlyphStyle = draw.GlyphStyle{Shape: barGlyph{}, Radius: vg.Points(14), Color: color.Black}
-	p.Add(plotter.NewGrid(), dots, bars)
+	bars.GlyphStyle = draw.GlyphStyle{Shape: barGlyph{}, Radius: vg.Points(14), Color: st.Ink}
+	p.Add(grid(st), dots, bars)
 	p.Legend.Add("a seed's largest survived", dots)
 	p.Legend.Add("survived by every seed", bars)
 	if len(felled) > 0 {
@@ -63,7 +62,7 @@ func marginFigure(res []margin.Result) (*figure, error) {
 		if err != nil {
 			return nil, err
 		}
-		crosses.GlyphStyle = draw.GlyphStyle{Shape: draw.CrossGlyph{}, Radius: vg.Points(5), Color: color.NRGBA{R: 0xc0, G: 0x20, B: 0x20, A: 0xff}}
+		crosses.GlyphStyle = draw.GlyphStyle{Shape: draw.CrossGlyph{}, Radius: vg.Points(5), Color: st.Worst}
 		p.Add(crosses)
 		p.Legend.Add("smallest that felled a seed", crosses)
 	}

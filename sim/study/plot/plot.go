@@ -7,13 +7,15 @@ package plot
 
 import (
 	"fmt"
+	"image/color"
 	"io"
 	"math"
 	"path/filepath"
 	"strings"
 
 	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
@@ -68,17 +70,59 @@ func (f *figure) draw(dc draw.Canvas) (err error) {
 	return nil
 }
 
-// newPlot is an empty plot with every text in Liberation Sans.
-func newPlot() *plot.Plot {
-	p := plot.New()
-	sans := func(f *font.Font) { f.Variant = "Sans" }
-	sans(&p.Title.TextStyle.Font)
-	for _, a := range []*plot.Axis{&p.X, &p.Y} {
-		sans(&a.Label.TextStyle.Font)
-		sans(&a.Tick.Label.Font)
+// Style is the look of a plot. The window passes the colours of its own
+// theme, so a plot sits in it like its other panels; the command line uses
+// Plain. A zero field takes Plain's.
+type Style struct {
+	Paper, Ink, Grid color.Color
+	// Mean is the colour of a sweep's mean and of the margin's seeds;
+	// Worst of a sweep's worst seed and of the shoves that felled one.
+	Mean, Worst color.Color
+}
+
+// Plain is dark ink on white paper, for files.
+var Plain = Style{
+	Paper: color.White, Ink: color.Black, Grid: color.Gray{Y: 0xc0},
+	Mean:  color.NRGBA{R: 0x31, G: 0x68, B: 0x8e, A: 0xff},
+	Worst: color.NRGBA{R: 0xc0, G: 0x20, B: 0x20, A: 0xff},
+}
+
+func (s Style) filled() Style {
+	for _, f := range []struct {
+		dst *color.Color
+		def color.Color
+	}{
+		{&s.Paper, Plain.Paper}, {&s.Ink, Plain.Ink}, {&s.Grid, Plain.Grid}, {&s.Mean, Plain.Mean}, {&s.Worst, Plain.Worst},
+	} {
+		if *f.dst == nil {
+			*f.dst = f.def
+		}
 	}
-	sans(&p.Legend.TextStyle.Font)
+	return s
+}
+
+// newPlot is an empty plot in the style's colours with every text in
+// Liberation Sans.
+func newPlot(st Style) *plot.Plot {
+	st = st.filled()
+	p := plot.New()
+	p.BackgroundColor = st.Paper
+	ink := func(t *text.Style) { t.Font.Variant, t.Color = "Sans", st.Ink }
+	ink(&p.Title.TextStyle)
+	for _, a := range []*plot.Axis{&p.X, &p.Y} {
+		ink(&a.Label.TextStyle)
+		ink(&a.Tick.Label)
+		a.LineStyle.Color, a.Tick.LineStyle.Color = st.Ink, st.Ink
+	}
+	ink(&p.Legend.TextStyle)
 	return p
+}
+
+// grid is a background grid in the style's colour.
+func grid(st Style) *plotter.Grid {
+	g := plotter.NewGrid()
+	g.Vertical.Color, g.Horizontal.Color = st.filled().Grid, st.filled().Grid
+	return g
 }
 
 // builderUnits are the units a builder reads quantities of an SI unit in,

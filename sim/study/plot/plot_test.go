@@ -2,6 +2,7 @@ package plot
 
 import (
 	"context"
+	"image/color"
 	"math"
 	"strings"
 	"testing"
@@ -123,5 +124,32 @@ func TestViridisLightnessRises(t *testing.T) {
 	// The ends, from the published table: L* about 16 and 92 (from memory).
 	if l0, l1 := lightness(0), lightness(1); math.Abs(l0-16) > 3 || math.Abs(l1-92) > 3 {
 		t.Errorf("L* from %.1f to %.1f, want about 16 to 92", l0, l1)
+	}
+}
+
+func TestAStyleColoursThePaperAndTheInk(t *testing.T) {
+	// The window passes its own palette: the plot's paper and every text
+	// and axis take it, and a style left zero is the plain look of files.
+	res := &sweep.Result{Axes: []string{"x"}, AxisUnits: []string{""}, Metrics: []string{"peak_tilt"}, Units: []string{"deg"}, Seeds: 2}
+	for i := range 3 {
+		v := float64(i)
+		res.Points = append(res.Points, sweep.Point{Index: i, Values: []float64{v}, Metrics: []float64{v}, Worst: []float64{v + 1}})
+	}
+	res.Total = len(res.Points)
+	dark := Style{Paper: color.RGBA{0x20, 0x22, 0x24, 0xff}, Ink: color.RGBA{0xe0, 0xe0, 0xe0, 0xff}}
+	f, err := sweepFigure(res, Options{Style: dark})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := f.main
+	if p.BackgroundColor != dark.Paper || p.X.Label.TextStyle.Color != dark.Ink || p.Y.Tick.Label.Color != dark.Ink || p.X.LineStyle.Color != dark.Ink {
+		t.Errorf("the style is not applied: paper %v, label %v, ticks %v, axis %v", p.BackgroundColor, p.X.Label.TextStyle.Color, p.Y.Tick.Label.Color, p.X.LineStyle.Color)
+	}
+	plain, err := sweepFigure(res, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if plain.main.BackgroundColor != Plain.Paper || plain.main.Title.TextStyle.Color != Plain.Ink {
+		t.Errorf("a zero style is not the plain look: paper %v, ink %v", plain.main.BackgroundColor, plain.main.Title.TextStyle.Color)
 	}
 }

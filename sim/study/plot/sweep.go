@@ -24,6 +24,8 @@ type Options struct {
 	// across a 1-D plot.
 	Threshold    float64
 	HasThreshold bool
+	// Style is the plot's look (zero: Plain).
+	Style Style
 }
 
 // OptionsFor are the options for plotting a metric of res ("" the
@@ -101,7 +103,8 @@ func sweepFigure(s *sweep.Result, opt Options) (*figure, error) {
 func lineFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
 	unit, scale := display(s.Units[mi])
 	name := label(s.Metrics[mi], unit)
-	p := newPlot()
+	st := opt.Style.filled()
+	p := newPlot(st)
 	xLabel, xScale := axisOf(s, 0)
 	var mean, worst plotter.XYs
 	for _, pt := range s.Points {
@@ -116,12 +119,12 @@ func lineFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
 	if len(mean) == 0 {
 		return nil, fmt.Errorf("no point has a finite %s", s.Metrics[mi])
 	}
-	p.Add(plotter.NewGrid())
-	if err := addLine(p, mean, fmt.Sprintf("mean of %d seeds", s.Seeds), color.NRGBA{R: 0x31, G: 0x68, B: 0x8e, A: 0xff}); err != nil {
+	p.Add(grid(st))
+	if err := addLine(p, mean, fmt.Sprintf("mean of %d seeds", s.Seeds), st.Mean); err != nil {
 		return nil, err
 	}
 	if s.Seeds > 1 {
-		if err := addLine(p, worst, "worst seed", color.NRGBA{R: 0xc0, G: 0x20, B: 0x20, A: 0xff}); err != nil {
+		if err := addLine(p, worst, "worst seed", st.Worst); err != nil {
 			return nil, err
 		}
 	}
@@ -131,8 +134,9 @@ func lineFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
 	if opt.HasThreshold {
 		at := plotter.NewFunction(func(float64) float64 { return opt.Threshold * scale })
 		at.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+		at.Color = st.Ink
 		p.Add(at)
-		p.Legend.Add(fmt.Sprintf("threshold %g", opt.Threshold*scale), at)
+		p.Legend.Add(fmt.Sprintf("threshold %.4g", opt.Threshold*scale), at)
 	}
 	// Room round the ends, so the first and last points are whole.
 	p.X.Min, p.X.Max = mean[0].X, mean[len(mean)-1].X
@@ -145,7 +149,7 @@ func lineFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
 func heatFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
 	unit, scale := display(s.Units[mi])
 	name := label(s.Metrics[mi], unit)
-	p := newPlot()
+	p := newPlot(opt.Style)
 	g, err := newSweepGrid(s, mi, scale)
 	if err != nil {
 		return nil, err
@@ -166,12 +170,12 @@ func heatFigure(s *sweep.Result, opt Options, mi int) (*figure, error) {
 	if opt.HasThreshold {
 		f.contour = contour(g.xs, g.ys, g.z, opt.Threshold*scale)
 		p.Add(contourLines(f.contour))
-		p.Title.Text += fmt.Sprintf("; white: %g", opt.Threshold*scale)
+		p.Title.Text += fmt.Sprintf("; white: %.4g", opt.Threshold*scale)
 		if unit != "" {
 			p.Title.Text += " " + unit
 		}
 	}
-	f.bar = colourBar(hm.Min, hm.Max, name)
+	f.bar = colourBar(hm.Min, hm.Max, name, opt.Style)
 	return f, nil
 }
 
@@ -190,8 +194,8 @@ func addLine(p *plot.Plot, xy plotter.XYs, name string, c color.Color) error {
 
 // colourBar is a vertical bar of the viridis map from lo to hi, labelled
 // with what it measures.
-func colourBar(lo, hi float64, name string) *plot.Plot {
-	p := newPlot()
+func colourBar(lo, hi float64, name string, st Style) *plot.Plot {
+	p := newPlot(st)
 	p.Add(&plotter.ColorBar{ColorMap: &viridisMap{lo: lo, hi: hi}, Vertical: true})
 	p.HideX()
 	p.Y.Padding = 0
