@@ -71,24 +71,25 @@ func fillRect(img *image.RGBA, x0, y0, x1, y1 int, c color.RGBA) {
 
 // hline draws a horizontal line of one pixel; dash > 0 leaves gaps.
 func hline(img *image.RGBA, x0, x1, y int, c color.RGBA, dash int) {
-	for x := x0; x < x1; x++ {
-		if dash > 0 && (x/dash)%2 == 1 {
-			continue
-		}
-		if image.Pt(x, y).In(img.Rect) {
-			img.SetRGBA(x, y, c)
-		}
-	}
+	line(img, image.Pt(x0, y), image.Pt(1, 0), x1-x0, c, dash)
 }
 
 // vline draws a vertical line of one pixel; dash > 0 leaves gaps.
 func vline(img *image.RGBA, x, y0, y1 int, c color.RGBA, dash int) {
-	for y := y0; y < y1; y++ {
-		if dash > 0 && (y/dash)%2 == 1 {
+	line(img, image.Pt(x, y0), image.Pt(0, 1), y1-y0, c, dash)
+}
+
+// line paints n pixels from start in steps of step, skipping every other
+// run of dash pixels when dash > 0 (counted from the image's origin, so
+// dashes line up from line to line).
+func line(img *image.RGBA, start, step image.Point, n int, c color.RGBA, dash int) {
+	for i := range max(n, 0) {
+		p := start.Add(step.Mul(i))
+		if along := p.X*step.X + p.Y*step.Y; dash > 0 && (along/dash)%2 == 1 {
 			continue
 		}
-		if image.Pt(x, y).In(img.Rect) {
-			img.SetRGBA(x, y, c)
+		if p.In(img.Rect) {
+			img.SetRGBA(p.X, p.Y, c)
 		}
 	}
 }
