@@ -20,9 +20,7 @@ func init() {
 }
 
 func cmdFit(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("fit", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("fit", stderr)
 	logFile := fs.String("log", "", "the log: CSV with a time column and columns named like teeter run --csv writes")
 	paths := fs.String("param", "", "parameters to fit, comma separated, e.g. actuators.backlash,feet.pad_stiffness")
 	signals := fs.String("signals", "", "log columns to compare, comma separated (default: every sensor channel in the log)")

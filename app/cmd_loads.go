@@ -18,9 +18,7 @@ func init() {
 }
 
 func cmdLoads(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("loads", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("loads", stderr)
 	dirs := fs.String("dir", "", "shove directions, comma separated (default: those of margin)")
 	sizes := fs.Int("sizes", 4, "shoves per direction, evenly up to the margin")
 	seeds := fs.Int("seeds", 2, "noise seeds the margin is found with")

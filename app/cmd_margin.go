@@ -21,9 +21,7 @@ func init() {
 }
 
 func cmdMargin(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("margin", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("margin", stderr)
 	rf.addExecFlags(fs)
 	readSpec := addMarginFlags(fs)
 	asJSON := fs.Bool("json", false, "print the result as JSON")

@@ -13,9 +13,7 @@ func init() {
 }
 
 func cmdModes(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("modes", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("modes", stderr)
 	spanText := fs.String("span", "4s", "response time used for the fit")
 	order := fs.Int("order", 0, "model order (default: from the singular values)")
 	minWeight := fs.Float64("min-weight", 0.01, "leave out modes carrying less than this share of the response")

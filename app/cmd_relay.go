@@ -14,9 +14,7 @@ func init() {
 }
 
 func cmdRelay(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("relay", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("relay", stderr)
 	block := fs.String("block", "", "the PID block the relay stands in for")
 	fs.StringVar(block, "relay", "", "the same as --block (as 'teeter tune --relay' takes it)")
 	amplitude := fs.Float64("amplitude", 0, "relay amplitude in the block's output units (default: a quarter of its output range, halved while the cycle is too fast)")

@@ -16,9 +16,7 @@ func init() {
 }
 
 func cmdRun(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("run", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("run", stderr)
 	rf.addExecFlags(fs)
 	durText := fs.String("duration", "10s", "simulated time to run")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")

@@ -26,9 +26,7 @@ func init() {
 }
 
 func cmdSweep(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("sweep", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("sweep", stderr)
 	rf.addExecFlags(fs)
 	var params, shoves multiFlag
 	fs.Var(&params, "param", "PATH=FROM:TO:STEPS, a robot parameter or a gain (repeat for a 2-D grid)")

@@ -18,9 +18,7 @@ func init() {
 }
 
 func cmdTune(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("tune", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("tune", stderr)
 	fs.StringVar(rf.gains, "start", "", "the same as --gains: the gain set to start from")
 	paths := fs.String("param", "", "gains to tune, comma separated, e.g. body_loop.kp,body_loop.kd")
 	var shoves multiFlag

@@ -16,9 +16,7 @@ func init() {
 }
 
 func cmdWobble(args []string, stdout, stderr io.Writer) error {
-	fs := newFlags("wobble", stderr)
-	rf := addRigFlags(fs)
-	rf.addPhysicsRateFlag(fs)
+	fs, rf := newSimFlags("wobble", stderr)
 	backlashText := fs.String("backlash", "0.4mm", "total play given to each listed screw (a length, or an angle for rotary screws)")
 	acts := fs.String("actuators", "hip_left,hip_right,ankle_left,ankle_right", "lead screws given the backlash, comma separated")
 	durText := fs.String("duration", "40s", "simulated time")

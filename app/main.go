@@ -125,7 +125,7 @@ func (m *multiFlag) Set(v string) error { *m = append(*m, v); return nil }
 type rigFlags struct {
 	model, controller, gains *string
 	exec, execTimeout        *string // nil without addExecFlags
-	physicsRate              *string // nil without addPhysicsRateFlag
+	physicsRate              *string // nil on a command that does not simulate
 }
 
 // addRigFlags declares --model, --controller and --gains.
@@ -143,10 +143,13 @@ func (rf *rigFlags) addExecFlags(fs *flag.FlagSet) {
 	rf.execTimeout = fs.String("exec-timeout", "1s", "with --controller-exec: how long to wait for the program's ready line and each answer")
 }
 
-// addPhysicsRateFlag declares --physics-rate, on the commands that
-// simulate.
-func (rf *rigFlags) addPhysicsRateFlag(fs *flag.FlagSet) {
+// newSimFlags is the flag set of a command that simulates: the rig's
+// flags and --physics-rate.
+func newSimFlags(name string, stderr io.Writer) (*flag.FlagSet, rigFlags) {
+	fs := newFlags(name, stderr)
+	rf := addRigFlags(fs)
 	rf.physicsRate = fs.String("physics-rate", "", physicsRateUsage)
+	return fs, rf
 }
 
 const physicsRateUsage = "physics step rate, e.g. 2kHz (default: the robot file's physics_rate, else 1 kHz)"
