@@ -93,11 +93,12 @@ func (j *studyJob) run(work func(ctx context.Context, progress func(float64)) fu
 	go func() {
 		show := work(ctx, func(f float64) { j.do(func() { j.bar.SetValue(math.Max(0, math.Min(1, f))) }) })
 		j.do(func() {
+			finished := ctx.Err() == nil // before cancel, which sets it
 			cancel()
 			j.cancel = nil
 			j.startBtn.Enable()
 			j.cancelBtn.Disable()
-			if ctx.Err() == nil {
+			if finished {
 				j.bar.SetValue(1)
 			}
 			show()
@@ -230,7 +231,7 @@ func (p *studiesPanel) object() fyne.CanvasObject {
 	}
 	return container.NewVScroll(container.NewVBox(intro,
 		widget.NewSeparator(), head("Recovery margin"),
-		note("The largest shove the robot takes and stays up, in each direction (left, right, forward, back, up, down or degrees from +x), searched once per noise seed: the margin moves by several N*s from seed to seed, so trust the shove every seed survived."),
+		note("The largest shove the robot takes and stays up, in each direction (left, right, forward, back, up, down or degrees from +x), searched once per noise seed: the margin moves by several N·s from seed to seed, so trust the shove every seed survived."),
 		p.margin.object(mForm),
 		widget.NewSeparator(), head("Sweep"),
 		note("Runs a grid of values, PATH=FROM:TO:STEPS: a robot parameter such as actuators.backlash or a gain such as body_loop.kp."),
@@ -321,7 +322,7 @@ func (p *studiesPanel) showMargin(res []margin.Result, err error, spec margin.Sp
 	j := p.margin
 	p.lastMargin = res
 	grid := container.NewGridWithColumns(6, bold("Direction"), bold("Every seed survives"), bold("Median"), bold("Felled a seed at"), bold("Seeds' spread"), bold("Runs"))
-	ns := func(v float64) string { return fmt.Sprintf("%.3g N*s", v) }
+	ns := func(v float64) string { return fmt.Sprintf("%.4g N·s", v) }
 	for _, r := range res {
 		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, e := range r.Seeds {
@@ -343,8 +344,9 @@ func (p *studiesPanel) showMargin(res []margin.Result, err error, spec margin.Sp
 			grid.Add(widget.NewLabel(s))
 		}
 	}
-	j.result.Objects = []fyne.CanvasObject{grid,
-		widget.NewLabel(fmt.Sprintf("Over %d noise seeds from seed %d, each within %g N*s.", spec.Seeds, spec.Seed, spec.Tol))}
+	// Sideways scrolling: a wide table never widens the panel.
+	j.result.Objects = []fyne.CanvasObject{container.NewHScroll(grid),
+		widget.NewLabel(fmt.Sprintf("Over %d noise seeds from seed %d, each within %g N·s.", spec.Seeds, spec.Seed, spec.Tol))}
 	j.result.Add(plotView(img, plotErr))
 	state := "Done"
 	if err != nil {
@@ -548,7 +550,7 @@ func (p *studiesPanel) showTune(res *tune.Result, err error, file string, werr e
 	save := widget.NewButtonWithIcon("Save gain set…", theme.DocumentSaveIcon(), func() {
 		p.w.saveFile("tuned.yaml", func(path string) error { return control.WriteGains(path, gs) })
 	})
-	j.result.Objects = []fyne.CanvasObject{grid, container.NewHBox(apply, save)}
+	j.result.Objects = []fyne.CanvasObject{container.NewHScroll(grid), container.NewHBox(apply, save)}
 	j.result.Refresh()
 }
 

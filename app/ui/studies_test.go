@@ -10,6 +10,7 @@ import (
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/canvas"
+	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/test"
 	"fyne.io/fyne/v2/widget"
 )
@@ -51,6 +52,8 @@ func labels(o fyne.CanvasObject) []string {
 			for _, c := range v.Objects {
 				walk(c)
 			}
+		case *container.Scroll:
+			walk(v.Content)
 		}
 	}
 	walk(o)
@@ -89,6 +92,9 @@ func TestMarginStudyFromTheWindow(t *testing.T) {
 	pump(p.margin.done)
 	if p.margin.running() || p.margin.startBtn.Disabled() || !p.margin.cancelBtn.Disabled() {
 		t.Fatal("the buttons were not put back after the study")
+	}
+	if v := p.margin.bar.Value; v != 1 {
+		t.Errorf("a finished study's meter reads %.0f %%, want 100 %%", v*100)
 	}
 	if len(p.lastMargin) != 2 {
 		t.Fatalf("%d directions in the result, want 2 (%s)", len(p.lastMargin), p.margin.status.Text)
