@@ -260,7 +260,7 @@ func splitsFed(spec *control.Spec, block string) []string {
 
 // setSpec draws the cascade of spec (nil: none).
 func (g *cascadeView) setSpec(spec *control.Spec) {
-	g.spec, g.cards, g.loops, g.seqs, g.names = spec, map[string]*cascadeCard{}, nil, nil, nil
+	g.spec, g.cards, g.loops, g.seqs, g.names, g.want = spec, map[string]*cascadeCard{}, nil, nil, nil, nil
 	g.content.Objects = nil
 	if spec == nil || len(spec.Blocks) == 0 {
 		g.content.Add(wrapped(g.noGraph()))
@@ -417,18 +417,19 @@ func (g *cascadeView) update(run *runner, gains map[string]float64) {
 				}
 			}
 		}
-	}
-	g.want = g.want[:0]
-	for _, l := range g.loops {
-		for _, s := range []string{l.setpoint, l.measured, l.out} {
-			if i, ok := g.index[s]; ok {
-				g.want = append(g.want, i)
+		// The signals the cards show, looked up once per set of names
+		// rather than every frame.
+		for _, l := range g.loops {
+			for _, s := range []string{l.setpoint, l.measured, l.out} {
+				if i, ok := g.index[s]; ok {
+					g.want = append(g.want, i)
+				}
 			}
 		}
-	}
-	for _, s := range g.seqs {
-		if i, ok := g.index[s.signal]; ok {
-			g.want = append(g.want, i)
+		for _, s := range g.seqs {
+			if i, ok := g.index[s.signal]; ok {
+				g.want = append(g.want, i)
+			}
 		}
 	}
 	run.Recent(&g.tr, 0.05, g.want)
