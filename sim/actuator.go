@@ -190,6 +190,11 @@ func (a *actuator) before(dt, voltage float64, nominal bool) {
 	}
 	// Current between no-load and stall by load fraction, times |duty|.
 	a.current = math.Abs(u) * (m.NoLoadCurrent + (m.StallCurrent-m.NoLoadCurrent)*loadFrac)
+	a.placeLimit()
+}
+
+// placeLimit puts the output's band round the screw, moving with it.
+func (a *actuator) placeLimit() {
 	a.limit.Min, a.limit.Max = a.screw-a.backlash/2, a.screw+a.backlash/2
 	a.limit.Speed = a.speed
 }

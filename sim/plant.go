@@ -584,7 +584,7 @@ func (p *Plant) Step() (err error) {
 		p.acts[i].before(p.dt, voltage, p.battery.nominal)
 	}
 	p.space.Step(p.dt)
-	p.project()
+	p.project(screwSlop, projectionPasses)
 	p.step++
 	current := 0.0
 	for i := range p.acts {

@@ -28,6 +28,7 @@ type screwLimit struct {
 	gamma           float64 // soft edges: the softness of the step
 	lo, hi          bool    // soft edges: which is overshot this step
 	far             bool    // both edges out of a step's reach: nothing to solve
+	tie             bool    // one two-sided edge (Plant.TieScrews)
 
 	mass     float64
 	biasLo   float64 // the velocity bounds of the step
@@ -85,6 +86,11 @@ func (l *screwLimit) PreStep(dt float64) {
 		return
 	}
 	l.mass = 1 / l.invMass()
+	if l.tie {
+		l.biasLo = l.Speed - l.drift(q, dt)/dt
+		l.biasHi = l.biasLo
+		return
+	}
 	// Over the step q' must stay within [biasLo, biasHi], less the drift
 	// the position update adds (coord.drift).
 	drift := l.drift(q, dt) / dt
@@ -114,6 +120,12 @@ func (l *screwLimit) ApplyImpulse(dt float64) {
 		return
 	}
 	v := l.velocity()
+	if l.tie {
+		d := (l.biasLo - v) * l.mass
+		l.jLo += d
+		l.impulse(d)
+		return
+	}
 	oldLo, oldHi := l.jLo, l.jHi
 	l.jLo = oldLo + (l.biasLo-v)*l.mass
 	if l.jLo < 0 {
