@@ -31,16 +31,19 @@ type Linear struct {
 // removes by moving the bodies back onto their joints.
 const fastest = 1e-3
 
-// neutral is the rate, 1/s, below which a real eigenvalue is a position
+// neutral is the size of s, 1/s, below which an eigenvalue is a position
 // nothing restores rather than a mode: where the robot stands on the
-// ground.
+// ground (its damping ratio is rounding).
 const neutral = 1e-3
 
 // Linearise linearises the idealised rig (see Ideal) about its state after
 // opt.Settle by central finite differences: each state entry in turn is
-// moved by a small step either way from the saved stand, the loop run one
-// controller tick, and the difference of the two states reached is a column
-// of A. The controller must expose its state (a controller graph does; a
+// moved by a small step either way from the saved stand, put back onto the
+// joints and screws (sim's Plant.Constrain), the loop run one controller
+// tick, and the difference of the two states reached is a column of A. The
+// screws are tied two-sided first (Plant.TieScrews): at zero play that is
+// what they are, and it keeps the tick smooth where a screw's load turns
+// round. The controller must expose its state (a controller graph does; a
 // controller program does not).
 func Linearise(r *rig.Rig, opt Options) (*Linear, error) {
 	if r.Program != nil {
@@ -66,6 +69,7 @@ func Linearise(r *rig.Rig, opt Options) (*Linear, error) {
 	if err := p.RunFor(float64(steps-1) / p.PhysicsRate()); err != nil {
 		return nil, fmt.Errorf("modes: while settling: %w", err)
 	}
+	p.TieScrews()
 	saved, err := p.Save()
 	if err != nil {
 		return nil, err
@@ -79,6 +83,7 @@ func Linearise(r *rig.Rig, opt Options) (*Linear, error) {
 			return err
 		}
 		p.SetState(x)
+		p.Constrain()
 		for range steps {
 			if err := p.Step(); err != nil {
 				return fmt.Errorf("modes: linearising: %w", err)
@@ -194,7 +199,7 @@ func (lin *Linear) Modes() ([]Mode, error) {
 	var out []Mode
 	total := 0.0
 	for _, m := range all {
-		if m.Real > math.Log(fastest)/lin.T && (m.Imag != 0 || math.Abs(m.Real) > neutral) {
+		if m.Real > math.Log(fastest)/lin.T && 2*math.Pi*m.FrequencyHz > neutral {
 			out = append(out, m)
 			total += m.Weight
 		}

@@ -13,8 +13,7 @@
 // Ho-Kalman construction) turns the responses into a discrete model
 // x(k+1) = A x(k), and the eigenvalues z of A give the modes s = ln(z)/T.
 //
-// To be linear about the stand the kicked rig is idealised: sensor noise
-// and quantization, actuator deadbands and backlash are set to zero.
+// To be linear about the stand the kicked rig is idealised (see Ideal).
 package modes
 
 import (
@@ -89,12 +88,16 @@ type Responses struct {
 
 // Ideal is the rig with everything that makes the loop nonlinear about the
 // stand taken out: no sensor noise, no quantization, no deadband, no
-// backlash.
+// backlash, no joint friction (Coulomb friction has no slope at rest; a
+// joint its screw holds without play does not slide anyway).
 func Ideal(r *rig.Rig) *rig.Rig {
 	robot := r.Robot.Clone()
 	robot.NoiseScale = 0
 	for i := range robot.Sensors {
 		robot.Sensors[i].Bits = 0
+	}
+	for i := range robot.Joints {
+		robot.Joints[i].Friction = 0
 	}
 	for i := range robot.Actuators {
 		robot.Actuators[i].Deadband = 0
