@@ -200,37 +200,15 @@ func (p *Plant) holdFeet(scale float64) {
 // one-sided edges at one place, the same tie while the solver converges,
 // but which edge holds, and by how much the output may lag past it, turns
 // over with the load: not smooth about a stance where a screw carries
-// almost nothing. Not for long runs: a tie has no position feedback, and
-// the drift the projection then takes back does work against the load.
+// almost nothing. The tie's rate is that of the screw, without position
+// feedback, so a small move off the screw stays as it is, which keeps a
+// tick's outcome linear in it. Not for long runs: the drift the
+// projection then takes back does work against the load.
 func (p *Plant) TieScrews() {
 	for i := range p.acts {
 		if l := p.acts[i].limit; l != nil && l.mount == 0 && p.acts[i].backlash == 0 {
 			l.tie = true
 			l.jLo, l.jHi = l.jLo+l.jHi, 0
-		}
-	}
-}
-
-// Constrain puts a state set by SetState onto the robot's rigid
-// constraints: the bodies onto their joints, and each tied screw's output
-// (TieScrews) exactly onto the screw, moving at its speed. A step leaves a
-// loaded screw's output up to screwSlop past its edge, so what follows a
-// state moved off the screw is not smooth in the move; a study
-// linearising the loop constrains each state it sets.
-func (p *Plant) Constrain() {
-	const passes = 20 // the legs' closed loops converge by Gauss-Seidel
-	for i := range p.acts {
-		if a := &p.acts[i]; a.limit != nil {
-			a.placeLimit()
-		}
-	}
-	p.project(0, passes)
-	for range passes {
-		for i := range p.acts {
-			if l := p.acts[i].limit; l != nil && l.tie {
-				l.measure()
-				l.impulse((l.Speed - l.velocity()) / l.invMass())
-			}
 		}
 	}
 }

@@ -38,13 +38,12 @@ const neutral = 1e-3
 
 // Linearise linearises the idealised rig (see Ideal) about its state after
 // opt.Settle by central finite differences: each state entry in turn is
-// moved by a small step either way from the saved stand, put back onto the
-// joints and screws (sim's Plant.Constrain), the loop run one controller
-// tick, and the difference of the two states reached is a column of A. The
-// screws are tied two-sided first (Plant.TieScrews): at zero play that is
-// what they are, and it keeps the tick smooth where a screw's load turns
-// round. The controller must expose its state (a controller graph does; a
-// controller program does not).
+// moved by a small step either way from the saved stand, the loop run one
+// controller tick, and the difference of the two states reached is a
+// column of A. The screws are tied two-sided first (sim's
+// Plant.TieScrews): at zero play that is what they are, and it keeps the
+// tick smooth where a screw's load turns round. The controller must expose
+// its state (a controller graph does; a controller program does not).
 func Linearise(r *rig.Rig, opt Options) (*Linear, error) {
 	if r.Program != nil {
 		return nil, errors.New("modes: a controller program's state is out of reach; identify the modes from kicks instead")
@@ -83,7 +82,6 @@ func Linearise(r *rig.Rig, opt Options) (*Linear, error) {
 			return err
 		}
 		p.SetState(x)
-		p.Constrain()
 		for range steps {
 			if err := p.Step(); err != nil {
 				return fmt.Errorf("modes: linearising: %w", err)
