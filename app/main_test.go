@@ -106,3 +106,33 @@ func TestWindowWithoutDisplayIsAClearError(t *testing.T) {
 		t.Errorf("exit %d, stderr %q; want exit 1 and a message about the missing display", code, errOut)
 	}
 }
+
+// modes linearises by default and sets each mode beside the identified one
+// (its documented output, README "Studies"); the JSON carries both.
+func TestModesLinearisesAndCrossChecks(t *testing.T) {
+	code, out, errOut := runTeeter(t, "modes", "--model", "builtin:pendulum", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	var ms []struct {
+		FrequencyHz float64          `json:"frequency_hz"`
+		Weight      float64          `json:"weight"`
+		Identified  *json.RawMessage `json:"identified"`
+	}
+	if err := json.Unmarshal([]byte(out), &ms); err != nil {
+		t.Fatalf("output is not a JSON list of modes: %v\n%s", err, out)
+	}
+	checked := 0
+	for _, m := range ms {
+		if m.Weight > 0.1 && m.Identified != nil {
+			checked++
+		}
+	}
+	if checked == 0 {
+		t.Errorf("no heavy mode carries its identified twin:\n%s", out)
+	}
+	code, out, errOut = runTeeter(t, "modes", "--model", "builtin:pendulum", "--kicks")
+	if code != 0 || !strings.Contains(out, "identified from kicks") {
+		t.Errorf("--kicks: exit %d, output:\n%s%s", code, out, errOut)
+	}
+}

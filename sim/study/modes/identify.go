@@ -82,18 +82,25 @@ func normalise(res *Responses) {
 // ones; modes below minWeight are left out.
 func Table(modes []Mode, minWeight float64) string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "%10s %9s %10s %10s %7s\n", "freq Hz", "damping", "Re s 1/s", "Im s rad/s", "weight")
+	fmt.Fprintln(&b, header())
 	for _, m := range modes {
-		if m.Weight < minWeight {
-			continue
+		if m.Weight >= minWeight {
+			fmt.Fprintln(&b, row(m))
 		}
-		flag := ""
-		if m.Unstable() {
-			flag = "  UNSTABLE"
-		} else if m.Imag == 0 {
-			flag = "  (real)"
-		}
-		fmt.Fprintf(&b, "%10.3f %9.3f %10.3f %10.3f %6.1f%%%s\n", m.FrequencyHz, m.Damping, m.Real, m.Imag, 100*m.Weight, flag)
 	}
 	return b.String()
+}
+
+func header() string {
+	return fmt.Sprintf("%10s %9s %10s %10s %7s %9s", "freq Hz", "damping", "Re s 1/s", "Im s rad/s", "weight", "")
+}
+
+func row(m Mode) string {
+	flag := ""
+	if m.Unstable() {
+		flag = "UNSTABLE"
+	} else if m.Imag == 0 {
+		flag = "(real)"
+	}
+	return fmt.Sprintf("%10.3f %9.3f %10.3f %10.3f %6.1f%% %9s", m.FrequencyHz, m.Damping, m.Real, m.Imag, 100*m.Weight, flag)
 }

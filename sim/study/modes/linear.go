@@ -26,10 +26,11 @@ type Linear struct {
 }
 
 // fastest is the decay per tick below which an eigenvalue is not a mode of
-// motion but a state the loop forgets at once: a sample shifted through a
-// latency ring, an output recomputed every tick, a joint error the plant
+// motion but a state the loop forgets at once, its time constant shorter
+// than a tick: a sample shifted through a latency ring, an output
+// recomputed every tick, a solver's impulse, a joint error the plant
 // removes by moving the bodies back onto their joints.
-const fastest = 1e-3
+var fastest = math.Exp(-1)
 
 // neutral is the size of s, 1/s, below which an eigenvalue is a position
 // nothing restores rather than a mode: where the robot stands on the

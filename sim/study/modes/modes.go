@@ -86,6 +86,9 @@ type Responses struct {
 	Y       [][]float64
 }
 
+// IdealNote says in a few words what Ideal takes out.
+const IdealNote = "no noise, quantization, deadband, backlash or joint friction"
+
 // Ideal is the rig with everything that makes the loop nonlinear about the
 // stand taken out: no sensor noise, no quantization, no deadband, no
 // backlash, no joint friction (Coulomb friction has no slope at rest; a

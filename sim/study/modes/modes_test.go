@@ -218,3 +218,58 @@ func TestLinearisedPDPendulum(t *testing.T) {
 		}
 	}
 }
+
+func TestCrossCheckOfPDPendulum(t *testing.T) {
+	// Both methods on the PD pendulum whose roots the characteristic
+	// equation places (Ogata, ch. 3; see pdPendulum): the linearised
+	// dominant mode must find its identified twin, and they must agree.
+	wn, zeta := 2*math.Pi*2.0, 0.3
+	r := pdPendulum(t, wn, zeta)
+	lin, err := Linearise(r, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	linear, err := lin.Modes()
+	if err != nil {
+		t.Fatal(err)
+	}
+	identified, err := Identify(r, Options{Span: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checked := CrossCheck(linear, identified)
+	t.Logf("\n%s", CheckedTable(checked, 0))
+	top := dominant(linear)
+	for _, c := range checked {
+		if c.Mode != top {
+			continue
+		}
+		if !c.Agrees() {
+			t.Fatalf("the dominant mode %.3f Hz, zeta %.3f found no identified twin (%v)", c.FrequencyHz, c.Damping, c.Identified)
+		}
+		if got := c.Identified.FrequencyHz * 2 * math.Pi; math.Abs(got-wn)/wn > 0.03 {
+			t.Errorf("paired with an identified mode at %.3f rad/s; the roots are at %.3f rad/s", got, wn)
+		}
+		return
+	}
+	t.Fatal("the dominant mode is not among the checked ones")
+}
+
+func TestCrossCheckPairsByDistanceInThePlane(t *testing.T) {
+	// s = -1 + 27j (|s| 27.02) against identified modes at -0.5 + 23j
+	// (|ds| 4.03, 14.9 % of |s|) and -1.3 + 26.9j (|ds| 0.32, 1.2 %): the
+	// nearer is the same mode. Alone, -0.5 + 21j (|ds| 6.02, 22 %) is
+	// another mode; -100 is 75 % from -25. Worked by hand.
+	lin := []Mode{{Real: -1, Imag: 27}, {Real: -100}}
+	id := []Mode{{Real: -0.5, Imag: 23}, {Real: -1.3, Imag: 26.9}, {Real: -25}}
+	got := CrossCheck(lin, id)
+	if got[0].Identified == nil || *got[0].Identified != id[1] {
+		t.Errorf("-1+27j paired with %v, want %v", got[0].Identified, id[1])
+	}
+	if got[1].Identified != nil {
+		t.Errorf("-100 paired with %v, 75 %% of |s| away", got[1].Identified)
+	}
+	if got := CrossCheck(lin[:1], []Mode{{Real: -0.5, Imag: 21}}); got[0].Identified != nil {
+		t.Errorf("-1+27j paired with %v, 22 %% of |s| away", got[0].Identified)
+	}
+}
