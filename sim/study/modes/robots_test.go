@@ -5,6 +5,8 @@ import (
 	"math/cmplx"
 	"testing"
 
+	"gonum.org/v1/gonum/stat"
+
 	"teeter/models"
 	"teeter/sim"
 	"teeter/sim/rig"
@@ -53,7 +55,7 @@ func growth(times, y []float64, hz, from, to float64) float64 {
 	n := int(math.Round(1 / (hz * dt)))
 	w := 2 * math.Pi * hz
 	var sum complex128
-	var st, sy, stt, sty, m float64
+	var ts, logs []float64
 	for k := range times {
 		sum += complex(y[k], 0) * cmplx.Exp(complex(0, -w*times[k]))
 		if k >= n {
@@ -63,10 +65,10 @@ func growth(times, y []float64, hz, from, to float64) float64 {
 		if k+1 < n || mid < from || mid > to {
 			continue
 		}
-		l := math.Log(cmplx.Abs(sum))
-		st, sy, stt, sty, m = st+mid, sy+l, stt+mid*mid, sty+mid*l, m+1
+		ts, logs = append(ts, mid), append(logs, math.Log(cmplx.Abs(sum)))
 	}
-	return (m*sty - st*sy) / (m*stt - st*st)
+	_, rate := stat.LinearRegression(ts, logs, nil, false)
+	return rate
 }
 
 // linearised returns the rig's linearised modes.
@@ -171,16 +173,15 @@ func TestLinearisedGrowthIsTheSimulatedGrowth(t *testing.T) {
 	// A real mode: once the kick's oscillations have died, the tilt's rate
 	// (over whole seconds, to pass over what is left of them) grows as
 	// exp(s t) by itself, whatever the level it creeps from.
-	var st, sy, stt, sty, m float64
+	var ts, logs []float64
 	dt := times[1] - times[0]
 	second := int(math.Round(1 / dt))
 	for i := range times {
 		if times[i] >= 20 && i+second < len(times) {
-			l := math.Log(math.Abs(tilt[i+second] - tilt[i]))
-			st, sy, stt, sty, m = st+times[i], sy+l, stt+times[i]*times[i], sty+times[i]*l, m+1
+			ts, logs = append(ts, times[i]), append(logs, math.Log(math.Abs(tilt[i+second]-tilt[i])))
 		}
 	}
-	simRate := (m*sty - st*sy) / (m*stt - st*st)
+	_, simRate := stat.LinearRegression(ts, logs, nil, false)
 	t.Logf("sagittal, ki 0.2: linearised real mode %.4f 1/s, simulated creep %.4f 1/s", creep.Real, simRate)
 	if math.Abs(simRate-creep.Real) > 0.15*creep.Real {
 		t.Errorf("sagittal creep: simulated %.4f 1/s, linearised %.4f 1/s", simRate, creep.Real)
