@@ -21,6 +21,7 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	acts := fs.String("actuators", "hip_left,hip_right,ankle_left,ankle_right", "lead screws given the backlash, comma separated")
 	durText := fs.String("duration", "40s", "simulated time")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")
+	kicksText := fs.String("kicks", "", "the shoves at 1 s, one simulated run each, comma separated (default five from 0.02 to 0.16 N*s per kg of robot)")
 	asJSON := fs.Bool("json", false, "print the result as JSON")
 	if err := parseFlags(fs, args); err != nil {
 		return err
@@ -35,11 +36,21 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 			return usageError{fmt.Errorf("--backlash %q: want a length such as 0.4mm or an angle such as 1deg", *backlashText)}
 		}
 	}
+	var kicks []float64
+	if *kicksText != "" {
+		for _, k := range strings.Split(*kicksText, ",") {
+			v, _, err := models.ParseQuantity(k, models.Impulse)
+			if err != nil {
+				return usageError{fmt.Errorf("--kicks %q: %w", k, err)}
+			}
+			kicks = append(kicks, v)
+		}
+	}
 	r, err := rf.load()
 	if err != nil {
 		return err
 	}
-	res, err := wobble.Run(r, wobble.Spec{Actuators: strings.Split(*acts, ","), Backlash: backlash, Duration: dur, Seed: *seed})
+	res, err := wobble.Run(r, wobble.Spec{Actuators: strings.Split(*acts, ","), Backlash: backlash, Duration: dur, Seed: *seed, Kicks: kicks})
 	if err != nil {
 		return err
 	}
@@ -52,28 +63,45 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 		}
 		return fmt.Sprintf("%.3f mm", v*1000)
 	}
-	simulated := func(label string, rotary bool, s wobble.Simulated, screws bool) { // screws: one screw's amplitudes mean something
-		switch {
-		case s.Fell:
-			fmt.Fprintf(stdout, "%-12s %-10s the robot fell\n", label, "simulated")
-		case !s.Dominant:
-			fmt.Fprintf(stdout, "%-12s %-10s no dominant frequency: the tilt swings %.3f deg at most in one line\n", label, "simulated", s.TiltAmp)
-		case screws:
-			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", label, "simulated", unit(rotary, s.ScrewAmp), unit(rotary, s.OutputAmp), s.TiltAmp, s.FrequencyHz)
-		default:
-			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", label, "simulated", "", "", s.TiltAmp, s.FrequencyHz)
+	row := "%-12s %-10s %12s %12s %10s %10s  %s\n"
+	simulated := func(l wobble.Loop, screws bool) { // screws: one screw's amplitudes mean something
+		n := len(l.Sims)
+		shoves := fmt.Sprintf("%.2f to %.2f N*s", l.Sims[0].Kick, l.Sims[n-1].Kick)
+		if n == 1 {
+			shoves = fmt.Sprintf("%.2f N*s", l.Sims[0].Kick)
 		}
+		if fell := l.Count(func(s *wobble.Simulated) bool { return s.Fell }); fell > 0 {
+			fmt.Fprintf(stdout, "%-12s %-10s fell after %d of %d shoves (%s)\n", "", "simulated", fell, n, shoves)
+		}
+		w := l.Wobbles()
+		if w == nil {
+			fmt.Fprintf(stdout, "%-12s %-10s calm after every shove that left it up (%s): no swing of the tilt over %.2f deg in one line\n", "", "simulated", shoves, wobble.Calm)
+			return
+		}
+		kind := "steady"
+		if !w.Dominant {
+			kind = "irregular"
+		}
+		screw, out := "", ""
+		if screws {
+			screw, out = unit(l.Rotary, w.ScrewAmp), unit(l.Rotary, w.OutputAmp)
+		}
+		fmt.Fprintf(stdout, row, "", "simulated", screw, out, fmt.Sprintf("%.3f", w.TiltAmp), fmt.Sprintf("%.3f", w.FrequencyHz),
+			fmt.Sprintf("%s, after %.2f N*s; %d of %d shoves (%s) leave it wobbling", kind, w.Kick, l.Count((*wobble.Simulated).Wobbling), n, shoves))
 	}
-	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then all together (all: the same amplitude at each screw, the largest screw's shown); every run shoved at 1 s\n", *backlashText, *acts, r.Robot.Name)
+	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then all together (all: the same amplitude at each screw, the largest screw's shown); each case simulated after each shove at 1 s, the largest wobble shown\n", *backlashText, *acts, r.Robot.Name)
 	fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10s %10s\n", "", "", "screw amp", "output amp", "tilt deg", "freq Hz")
 	for _, l := range append(res.Loops, res.All) {
 		p := l.Prediction
 		if p.Found {
-			fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10.3f %10.3f\n", p.Actuator, "predicted", unit(p.Rotary, p.ScrewAmp), unit(p.Rotary, p.OutputAmp), p.TiltAmp, p.FrequencyHz)
+			fmt.Fprintf(stdout, row, p.Actuator, "predicted", unit(p.Rotary, p.ScrewAmp), unit(p.Rotary, p.OutputAmp), fmt.Sprintf("%.3f", p.TiltAmp), fmt.Sprintf("%.3f", p.FrequencyHz), "describing function")
 		} else {
 			fmt.Fprintf(stdout, "%-12s %-10s %s\n", p.Actuator, "predicted", p.Why)
 		}
-		simulated("", p.Rotary, l.Sim, p.Actuator != "all")
+		simulated(l, p.Actuator != "all")
+		if l.NotValid != "" {
+			fmt.Fprintf(stdout, "%-12s %-10s %s\n", "", "", l.NotValid)
+		}
 	}
 	return nil
 }

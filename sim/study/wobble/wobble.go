@@ -10,8 +10,11 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"runtime"
 	"slices"
 	"sort"
+
+	"golang.org/x/sync/errgroup"
 
 	"gonum.org/v1/gonum/stat"
 
@@ -148,9 +151,28 @@ type Spec struct {
 	Duration  float64  // s of simulation (default 40)
 	Window    float64  // s at the end of it measured (default half the duration)
 	Seed      uint64
-	// Kick is the shove at 1 s that starts the simulated cycle, N*s
-	// (default 0.02 N*s per kg of robot).
-	Kick float64
+	// Kicks are the shoves at 1 s, N*s, one simulated run each (default
+	// DefaultKicks). Play can leave a robot calm after one shove and
+	// wobbling after another, the two separated by an unstable cycle
+	// (Gelb and Vander Velde, 1968, ch. 2); on the sagittal demo with
+	// 0.5 mm at the ankle, calm and wobbling even alternate with the
+	// shove's size. One shove alone could report calm for a robot that
+	// wobbles once bumped.
+	Kicks []float64
+}
+
+// DefaultKicks are five shoves from 0.02 to 0.16 N*s per kg of the
+// robot, in equal ratios.
+func DefaultKicks(robot *models.Robot) []float64 {
+	mass := 0.0
+	for _, l := range robot.Links {
+		mass += l.Mass
+	}
+	out := make([]float64, 5)
+	for i := range out {
+		out[i] = 0.02 * mass * math.Pow(8, float64(i)/float64(len(out)-1))
+	}
+	return out
 }
 
 // Why a prediction was not made.
@@ -158,8 +180,12 @@ const (
 	NoBalance  = "no limit cycle: the harmonic balance has no solution"
 	Unfiltered = "no dominant harmonic: the loop passes the third harmonic as strongly as the fundamental"
 	Preloaded  = "no limit cycle: the joint's static load holds the play closed"
-	Rattles    = "the output rattles inside the play: the joint crosses it on its own, which backlash's describing function does not describe"
 )
+
+// Rattles is why a prediction is not valid where the simulation shows the
+// joint rattling: the describing function models a play whose output stays
+// where the input left it until the input comes round.
+const Rattles = "not valid here: in the simulation the joint swings further than its screw, crossing the play on its own, which backlash's describing function does not describe; read the simulation"
 
 // Prediction is the describing function's answer for one screw's
 // loop, the other screws without play.
@@ -182,6 +208,7 @@ type Prediction struct {
 
 // Simulated is the rig run with the backlash in one screw, kicked.
 type Simulated struct {
+	Kick        float64 `json:"kick_Ns"`
 	Fell        bool    `json:"fell"`
 	Dominant    bool    `json:"dominant"` // one frequency carries most of the tilt's swing
 	TiltAmp     float64 `json:"tilt_amp_deg"`
@@ -190,11 +217,45 @@ type Simulated struct {
 	OutputAmp   float64 `json:"output_amp"`
 }
 
-// Loop is one screw's prediction beside its simulation.
+// Loop is one screw's prediction beside its simulation after each shove.
 type Loop struct {
 	Prediction
-	Sim Simulated `json:"sim"`
+	Sims []Simulated `json:"sims"` // one per Spec.Kicks
+	// NotValid says why the prediction does not hold for this case, as the
+	// simulation shows (Rattles), when it does not.
+	NotValid string `json:"not_valid,omitempty"`
 }
+
+// Wobbles is the run with the largest wobble, or nil when none wobbles.
+func (l *Loop) Wobbles() *Simulated {
+	var worst *Simulated
+	for i := range l.Sims {
+		if s := &l.Sims[i]; s.Wobbling() && (worst == nil || s.TiltAmp > worst.TiltAmp) {
+			worst = s
+		}
+	}
+	return worst
+}
+
+// Wobbling reports a run that stays up with its tilt swinging more than
+// Calm in its strongest line, a steady cycle (Dominant) or not.
+func (s *Simulated) Wobbling() bool { return !s.Fell && s.TiltAmp > Calm }
+
+// Count is how many of the runs satisfy ok.
+func (l *Loop) Count(ok func(*Simulated) bool) int {
+	n := 0
+	for i := range l.Sims {
+		if ok(&l.Sims[i]) {
+			n++
+		}
+	}
+	return n
+}
+
+// Calm is the tilt swing, deg, below which a robot does not wobble
+// (common practice: under a twentieth of a degree is sensor noise on a
+// hobby IMU).
+const Calm = 0.05
 
 // Result is every listed screw's loop, and the rig run with the backlash
 // in all of them at once.
@@ -547,31 +608,59 @@ func Run(r *rig.Rig, spec Spec) (*Result, error) {
 	if spec.Window <= 0 || spec.Window > spec.Duration {
 		spec.Window = spec.Duration / 2
 	}
+	if len(spec.Kicks) == 0 {
+		spec.Kicks = DefaultKicks(r.Robot)
+	}
+	spec.Kicks = slices.Sorted(slices.Values(spec.Kicks)) // smallest first, as the results list them
+	for _, k := range spec.Kicks {
+		if !(k > 0) {
+			return nil, fmt.Errorf("wobble: a shove of %g N*s: each must be positive", k)
+		}
+	}
 	resp, err := Measure(r, spec.Actuators, spec.Seed)
 	if err != nil {
 		return nil, err
 	}
 	res := &Result{Backlash: spec.Backlash}
 	for j, name := range spec.Actuators {
-		s, err := Simulate(r, name, spec)
-		if err != nil {
+		l := Loop{Prediction: resp.Alone(j, spec.Backlash)}
+		if err := simulateAll(r, []string{name}, spec, &l); err != nil {
 			return nil, err
 		}
-		l := Loop{Prediction: resp.Alone(j, spec.Backlash), Sim: *s}
-		if s.rattles(spec.Backlash) {
-			l.Prediction = Prediction{Actuator: name, Rotary: resp.Rotary[j], Why: Rattles, StaticLoad: resp.StaticLoad[j]}
-		}
+		l.judge(spec.Backlash)
 		res.Loops = append(res.Loops, l)
 	}
-	all, err := simulate(r, spec.Actuators, spec)
-	if err != nil {
+	res.All = Loop{Prediction: resp.Together(spec.Backlash)}
+	if err := simulateAll(r, spec.Actuators, spec, &res.All); err != nil {
 		return nil, err
 	}
-	res.All = Loop{Prediction: resp.Together(spec.Backlash), Sim: *all}
-	if all.rattles(spec.Backlash) {
-		res.All.Prediction = Prediction{Actuator: "all", Why: Rattles, StaticLoad: maxAbs(resp.StaticLoad)}
-	}
+	res.All.judge(spec.Backlash)
 	return res, nil
+}
+
+// simulateAll runs the case after each shove, the runs spread over the
+// cores.
+func simulateAll(r *rig.Rig, actuators []string, spec Spec, l *Loop) error {
+	l.Sims = make([]Simulated, len(spec.Kicks))
+	var g errgroup.Group
+	g.SetLimit(runtime.GOMAXPROCS(0))
+	for i, kick := range spec.Kicks {
+		g.Go(func() error {
+			s, err := simulate(r, actuators, spec, kick)
+			if err == nil {
+				l.Sims[i] = *s
+			}
+			return err
+		})
+	}
+	return g.Wait()
+}
+
+// judge marks the prediction not valid where the simulated cycle rattles.
+func (l *Loop) judge(width float64) {
+	if s := l.Wobbles(); s != nil && s.rattles(width) {
+		l.NotValid = Rattles
+	}
 }
 
 // rattles reports a cycle in which the joint swings further than its
@@ -582,20 +671,17 @@ func (s *Simulated) rattles(width float64) bool {
 }
 
 // Simulate runs the rig with the backlash in one screw, the others without
-// play, shoved at 1 s, and measures the cycle over the window at the end.
-func Simulate(r *rig.Rig, actuator string, spec Spec) (*Simulated, error) {
-	return simulate(r, []string{actuator}, spec)
+// play, shoved at 1 s by kick N*s, and measures the cycle over the window
+// at the end.
+func Simulate(r *rig.Rig, actuator string, spec Spec, kick float64) (*Simulated, error) {
+	return simulate(r, []string{actuator}, spec, kick)
 }
 
 // simulate is Simulate with the backlash in every listed screw; the screw
 // and output amplitudes are the first one's.
-func simulate(r *rig.Rig, actuators []string, spec Spec) (*Simulated, error) {
+func simulate(r *rig.Rig, actuators []string, spec Spec, kick float64) (*Simulated, error) {
 	actuator := actuators[0]
 	robot := r.Robot.Clone()
-	mass := 0.0
-	for _, l := range robot.Links {
-		mass += l.Mass
-	}
 	for i := range robot.Actuators {
 		if a := &robot.Actuators[i]; a.Kind == models.LeadScrew && !a.Ballast {
 			a.Backlash = 0
@@ -604,16 +690,12 @@ func simulate(r *rig.Rig, actuators []string, spec Spec) (*Simulated, error) {
 			}
 		}
 	}
-	kick := spec.Kick
-	if kick <= 0 {
-		kick = 0.02 * mass
-	}
 	sr := &rig.Rig{Robot: robot, Spec: r.Spec, Gains: r.Gains}
 	o, err := sr.Run(spec.Duration, sim.Options{Seed: spec.Seed, Shoves: []sim.Shove{{At: 1, Impulse: models.Vec2{X: kick}}}})
 	if err != nil {
 		return nil, err
 	}
-	s := &Simulated{Fell: o.Summary.Fell}
+	s := &Simulated{Kick: kick, Fell: o.Summary.Fell}
 	t := o.Rec.Column("time")
 	i := sort.SearchFloat64s(t, t[len(t)-1]-spec.Window)
 	if s.Fell || len(t)-i < 16 {

@@ -124,14 +124,14 @@ func TestBacklashCycleAgainstSimulation(t *testing.T) {
 // The describing function of backlash describes a play whose output stays
 // where the input left it until the input comes round (Gelb and Vander
 // Velde, 1968, ch. 2). On the built-in robots, with 0.2 and 1 mm of play,
-// each answer must hold against the simulation: a predicted cycle within 2x
-// in amplitude and 30 % in frequency of the simulated one; no cycle
-// predicted, a calm robot (a tilt swing under 0.05 deg with no dominant
-// line, common practice for "does not wobble"); and where the simulated
-// joint swings further than its screw, that said instead of a number.
+// each answer must hold against the simulation after each of the shoves: a predicted cycle within 2x in amplitude and 30 % in frequency of
+// the largest simulated one; no cycle predicted, a calm robot after all (a tilt
+// swing under 0.05 deg or no dominant line, common practice for "does not
+// wobble"); and where the simulated joint swings further than its screw,
+// the prediction marked not valid instead.
 func TestPredictionsHoldOnTheBuiltinRobots(t *testing.T) {
 	if testing.Short() {
-		t.Skip("about half a minute of simulation")
+		t.Skip("about a minute of simulation")
 	}
 	cases := []struct {
 		robot  string
@@ -155,27 +155,91 @@ func TestPredictionsHoldOnTheBuiltinRobots(t *testing.T) {
 				loops = append(loops, res.All)
 			}
 			for _, l := range loops {
-				p, s := l.Prediction, l.Sim
+				p := l.Prediction
 				name := fmt.Sprintf("%s %s, %.1f mm", c.robot, p.Actuator, play*1e3)
-				t.Logf("%s: predicted %v %.3f deg at %.3f Hz (%s); simulated %.3f deg at %.3f Hz, dominant %v, screw %.3f mm, joint %.3f mm",
-					name, p.Found, p.TiltAmp, p.FrequencyHz, p.Why, s.TiltAmp, s.FrequencyHz, s.Dominant, s.ScrewAmp*1e3, s.OutputAmp*1e3)
+				for _, s := range l.Sims {
+					t.Logf("%s: predicted %v %.3f deg at %.3f Hz (%s); shoved %.2f N*s: %.3f deg at %.3f Hz, dominant %v, screw %.3f mm, joint %.3f mm",
+						name, p.Found, p.TiltAmp, p.FrequencyHz, p.Why, s.Kick, s.TiltAmp, s.FrequencyHz, s.Dominant, s.ScrewAmp*1e3, s.OutputAmp*1e3)
+				}
+				w := l.Wobbles()
 				switch {
-				case s.Fell:
+				case l.Count(func(s *Simulated) bool { return s.Fell }) > 0:
 					t.Errorf("%s: the robot fell", name)
-				case p.Found:
-					if !s.Dominant || p.TiltAmp > 2*s.TiltAmp || s.TiltAmp > 2*p.TiltAmp || math.Abs(p.FrequencyHz-s.FrequencyHz) > 0.3*s.FrequencyHz {
-						t.Errorf("%s: predicted %.3f deg at %.3f Hz, simulated %.3f deg at %.3f Hz", name, p.TiltAmp, p.FrequencyHz, s.TiltAmp, s.FrequencyHz)
+				case l.NotValid != "":
+					if w == nil || !(w.OutputAmp > w.ScrewAmp) {
+						t.Errorf("%s: marked not valid (%s) without a simulated rattle", name, l.NotValid)
 					}
-				case p.Why == Rattles:
-					if !(s.OutputAmp > s.ScrewAmp) {
-						t.Errorf("%s: said to rattle, but the joint swings %.3g, its screw %.3g", name, s.OutputAmp, s.ScrewAmp)
+				case p.Found:
+					if w == nil || p.TiltAmp > 2*w.TiltAmp || w.TiltAmp > 2*p.TiltAmp || math.Abs(p.FrequencyHz-w.FrequencyHz) > 0.3*w.FrequencyHz {
+						t.Errorf("%s: predicted %.3f deg at %.3f Hz, simulated %+v", name, p.TiltAmp, p.FrequencyHz, w)
 					}
 				default:
-					if s.Dominant && s.TiltAmp > 0.05 {
-						t.Errorf("%s: no cycle predicted (%s), simulated %.3f deg at %.3f Hz", name, p.Why, s.TiltAmp, s.FrequencyHz)
+					if w != nil {
+						t.Errorf("%s: no cycle predicted (%s), simulated %.3f deg at %.3f Hz after %.2f N*s", name, p.Why, w.TiltAmp, w.FrequencyHz, w.Kick)
 					}
 				}
 			}
 		}
+	}
+}
+
+// Play can leave a loop calm after one disturbance and cycling after
+// another, an unstable cycle between the two (hard self-excitation, Gelb
+// and Vander Velde, 1968, ch. 2). The sagittal ankle with 0.5 mm of play
+// is such a case in the simulation: the smallest default shove leaves it
+// calm, and the study must still report the wobble that larger ones
+// start, with how many of the shoves did.
+func TestAHardShoveFindsTheWobbleASmallOneMisses(t *testing.T) {
+	if testing.Short() {
+		t.Skip("seconds of simulation")
+	}
+	r, err := rig.Load("builtin:sagittal", "", "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := Run(r, Spec{Actuators: []string{"ankle"}, Backlash: 0.5e-3, Duration: 20, Seed: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	l := res.Loops[0]
+	for _, s := range l.Sims {
+		t.Logf("shoved %.2f N*s: wobbling %v, %.3f deg at %.3f Hz", s.Kick, s.Wobbling(), s.TiltAmp, s.FrequencyHz)
+	}
+	if len(l.Sims) != 5 {
+		t.Fatalf("%d runs, want the 5 default shoves", len(l.Sims))
+	}
+	if l.Sims[0].Wobbling() {
+		t.Fatalf("the smallest shove already starts the wobble (%.3f deg): the case no longer tells the shoves apart", l.Sims[0].TiltAmp)
+	}
+	w := l.Wobbles()
+	n := l.Count((*Simulated).Wobbling)
+	if w == nil || w.TiltAmp < 0.2 || n == 0 {
+		t.Fatalf("the wobble the larger shoves start is not reported: %+v (%d runs wobbling)", w, n)
+	}
+	for _, s := range l.Sims {
+		if s.Wobbling() && s.TiltAmp > w.TiltAmp {
+			t.Errorf("reported %.3f deg, but the %.2f N*s run wobbles %.3f deg", w.TiltAmp, s.Kick, s.TiltAmp)
+		}
+	}
+	if l.NotValid != Rattles {
+		t.Errorf("the rattle after the larger shoves leaves the prediction (%s) unmarked", l.Prediction.Why)
+	}
+}
+
+func TestWobblesIsTheLargestOfTheRunsUp(t *testing.T) {
+	l := Loop{Sims: []Simulated{
+		{Kick: 1, TiltAmp: 0.3, Dominant: true},
+		{Kick: 2, TiltAmp: 0.01},
+		{Kick: 3, TiltAmp: 0.6},
+		{Kick: 4, TiltAmp: 9, Fell: true},
+	}}
+	if w := l.Wobbles(); w == nil || w.Kick != 3 {
+		t.Errorf("reported %+v, want the 0.6 deg run of the three up", w)
+	}
+	if n := l.Count((*Simulated).Wobbling); n != 2 {
+		t.Errorf("%d runs wobbling, want 2 (one under calm, one fallen)", n)
+	}
+	if (&Loop{Sims: l.Sims[1:2]}).Wobbles() != nil {
+		t.Error("a run under calm reported as a wobble")
 	}
 }
