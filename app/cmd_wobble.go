@@ -18,7 +18,7 @@ func init() {
 func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	fs, rf := newSimFlags("wobble", stderr)
 	backlashText := fs.String("backlash", "0.4mm", "total play given to each listed screw (a length, or an angle for rotary screws)")
-	acts := fs.String("actuators", "hip_left,hip_right,ankle_left,ankle_right", "lead screws given the backlash, comma separated")
+	acts := fs.String("actuators", "", "lead screws given the backlash, comma separated (default every lead screw of the robot but the ballast's)")
 	durText := fs.String("duration", "40s", "simulated time")
 	seed := fs.Uint64("seed", 1, "seed for sensor noise")
 	kicksText := fs.String("kicks", "", "the shoves at 1 s, one simulated run each, comma separated (default five from 0.02 to 0.16 N*s per kg of robot)")
@@ -49,6 +49,15 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	r, err := rf.load()
 	if err != nil {
 		return err
+	}
+	if *acts == "" {
+		var names []string
+		for _, a := range r.Robot.Actuators {
+			if a.Kind == models.LeadScrew && !a.Ballast {
+				names = append(names, a.Name)
+			}
+		}
+		*acts = strings.Join(names, ",")
 	}
 	res, err := wobble.Run(r, wobble.Spec{Actuators: strings.Split(*acts, ","), Backlash: backlash, Duration: dur, Seed: *seed, Kicks: kicks})
 	if err != nil {
@@ -89,9 +98,13 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stdout, row, "", "simulated", screw, out, fmt.Sprintf("%.3f", w.TiltAmp), fmt.Sprintf("%.3f", w.FrequencyHz),
 			fmt.Sprintf("%s, after %.2f N*s; %d of %d shoves (%s) leave it wobbling", kind, w.Kick, l.Count((*wobble.Simulated).Wobbling), n, shoves))
 	}
-	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then all together (all: the same amplitude at each screw, the largest screw's shown); each case simulated after each shove at 1 s, the largest wobble shown\n", *backlashText, *acts, r.Robot.Name)
+	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then, for more than one, all together (all: the same amplitude at each screw, the largest screw's shown); each case simulated after each shove at 1 s, the largest wobble shown\n", *backlashText, *acts, r.Robot.Name)
 	fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10s %10s\n", "", "", "screw amp", "output amp", "tilt deg", "freq Hz")
-	for _, l := range append(res.Loops, res.All) {
+	loops := res.Loops
+	if res.All != nil {
+		loops = append(loops, *res.All)
+	}
+	for _, l := range loops {
 		p := l.Prediction
 		if p.Found {
 			fmt.Fprintf(stdout, row, p.Actuator, "predicted", unit(p.Rotary, p.ScrewAmp), unit(p.Rotary, p.OutputAmp), fmt.Sprintf("%.3f", p.TiltAmp), fmt.Sprintf("%.3f", p.FrequencyHz), "describing function")

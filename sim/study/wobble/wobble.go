@@ -257,12 +257,12 @@ func (l *Loop) Count(ok func(*Simulated) bool) int {
 // hobby IMU).
 const Calm = 0.05
 
-// Result is every listed screw's loop, and the rig run with the backlash
-// in all of them at once.
+// Result is every listed screw's loop, and, for more than one screw, the
+// rig run with the backlash in all of them at once.
 type Result struct {
 	Backlash float64 `json:"backlash"`
 	Loops    []Loop  `json:"loops"`
-	All      Loop    `json:"all"`
+	All      *Loop   `json:"all,omitempty"`
 }
 
 // Response is the linear part of the loops through some lead screws,
@@ -630,11 +630,13 @@ func Run(r *rig.Rig, spec Spec) (*Result, error) {
 		l.judge(spec.Backlash)
 		res.Loops = append(res.Loops, l)
 	}
-	res.All = Loop{Prediction: resp.Together(spec.Backlash)}
-	if err := simulateAll(r, spec.Actuators, spec, &res.All); err != nil {
-		return nil, err
+	if len(spec.Actuators) > 1 {
+		res.All = &Loop{Prediction: resp.Together(spec.Backlash)}
+		if err := simulateAll(r, spec.Actuators, spec, res.All); err != nil {
+			return nil, err
+		}
+		res.All.judge(spec.Backlash)
 	}
-	res.All.judge(spec.Backlash)
 	return res, nil
 }
 

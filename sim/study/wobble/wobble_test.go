@@ -152,7 +152,7 @@ func TestPredictionsHoldOnTheBuiltinRobots(t *testing.T) {
 			}
 			loops := res.Loops
 			if len(c.screws) > 1 {
-				loops = append(loops, res.All)
+				loops = append(loops, *res.All)
 			}
 			for _, l := range loops {
 				p := l.Prediction
