@@ -50,16 +50,11 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
-	if *acts == "" {
-		var names []string
-		for _, a := range r.Robot.Actuators {
-			if a.Kind == models.LeadScrew && !a.Ballast {
-				names = append(names, a.Name)
-			}
-		}
-		*acts = strings.Join(names, ",")
+	var screws []string
+	if *acts != "" {
+		screws = strings.Split(*acts, ",")
 	}
-	res, err := wobble.Run(r, wobble.Spec{Actuators: strings.Split(*acts, ","), Backlash: backlash, Duration: dur, Seed: *seed, Kicks: kicks})
+	res, err := wobble.Run(r, wobble.Spec{Actuators: screws, Backlash: backlash, Duration: dur, Seed: *seed, Kicks: kicks})
 	if err != nil {
 		return err
 	}
@@ -81,6 +76,9 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 		}
 		if fell := l.Count(func(s *wobble.Simulated) bool { return s.Fell }); fell > 0 {
 			fmt.Fprintf(stdout, "%-12s %-10s fell after %d of %d shoves (%s)\n", "", "simulated", fell, n, shoves)
+			if fell == n {
+				return
+			}
 		}
 		w := l.Wobbles()
 		if w == nil {
@@ -98,7 +96,11 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 		fmt.Fprintf(stdout, row, "", "simulated", screw, out, fmt.Sprintf("%.3f", w.TiltAmp), fmt.Sprintf("%.3f", w.FrequencyHz),
 			fmt.Sprintf("%s, after %.2f N*s; %d of %d shoves (%s) leave it wobbling", kind, w.Kick, l.Count((*wobble.Simulated).Wobbling), n, shoves))
 	}
-	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then, for more than one, all together (all: the same amplitude at each screw, the largest screw's shown); each case simulated after each shove at 1 s, the largest wobble shown\n", *backlashText, *acts, r.Robot.Name)
+	names := make([]string, len(res.Loops))
+	for i, l := range res.Loops {
+		names[i] = l.Actuator
+	}
+	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then, for more than one, all together (all: the same amplitude at each screw, the largest screw's shown); each case simulated after each shove at 1 s, the largest wobble shown\n", *backlashText, strings.Join(names, ","), r.Robot.Name)
 	fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10s %10s\n", "", "", "screw amp", "output amp", "tilt deg", "freq Hz")
 	loops := res.Loops
 	if res.All != nil {

@@ -13,6 +13,7 @@ import (
 	"runtime"
 	"slices"
 	"sort"
+	"strings"
 
 	"golang.org/x/sync/errgroup"
 
@@ -146,7 +147,7 @@ func stable(f func(a, w float64) complex128, a, w float64) bool {
 
 // Spec asks for the backlash limit cycle of some screws.
 type Spec struct {
-	Actuators []string // lead screws, each given the backlash in turn
+	Actuators []string // lead screws, each given the backlash in turn (default Screws)
 	Backlash  float64  // total play, m (or rad for rotary screws)
 	Duration  float64  // s of simulation (default 40)
 	Window    float64  // s at the end of it measured (default half the duration)
@@ -171,6 +172,18 @@ func DefaultKicks(robot *models.Robot) []float64 {
 	out := make([]float64, 5)
 	for i := range out {
 		out[i] = 0.02 * mass * math.Pow(8, float64(i)/float64(len(out)-1))
+	}
+	return out
+}
+
+// Screws are the robot's lead screws that can carry the play: all but the
+// ballast's, which moves a mass, not a joint.
+func Screws(robot *models.Robot) []string {
+	var out []string
+	for _, a := range robot.Actuators {
+		if a.Kind == models.LeadScrew && !a.Ballast {
+			out = append(out, a.Name)
+		}
 	}
 	return out
 }
@@ -299,8 +312,8 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 	res := &Response{Actuators: actuators, Hz: responseHz(), StaticLoad: make([]float64, n)}
 	for _, name := range actuators {
 		i := slices.IndexFunc(ideal.Robot.Actuators, func(a models.Actuator) bool { return a.Name == name })
-		if i < 0 || ideal.Robot.Actuators[i].Kind != models.LeadScrew || ideal.Robot.Actuators[i].Ballast {
-			return nil, fmt.Errorf("wobble: %q is not a lead screw of %s", name, r.Robot.Name)
+		if i < 0 || !slices.Contains(Screws(ideal.Robot), name) {
+			return nil, fmt.Errorf("wobble: %q is not a lead screw of %s (the screws: %s)", name, r.Robot.Name, strings.Join(Screws(ideal.Robot), ", "))
 		}
 		res.Rotary = append(res.Rotary, modes.Rotary(ideal.Robot, &ideal.Robot.Actuators[i]))
 	}
@@ -594,10 +607,13 @@ func maxAbsC(xs []complex128) float64 {
 
 // Run predicts the backlash limit cycle of each listed screw's loop by
 // the describing function and runs the rig with the backlash in that screw
-// alone, kicked, to measure the real one.
+// alone after each shove, to measure the real one.
 func Run(r *rig.Rig, spec Spec) (*Result, error) {
 	if len(spec.Actuators) == 0 {
-		return nil, errors.New("wobble: no actuators given")
+		spec.Actuators = Screws(r.Robot)
+	}
+	if len(spec.Actuators) == 0 {
+		return nil, fmt.Errorf("wobble: %s has no lead screw but the ballast's", r.Robot.Name)
 	}
 	if !(spec.Backlash > 0) {
 		return nil, errors.New("wobble: the backlash must be positive")
@@ -684,8 +700,9 @@ func Simulate(r *rig.Rig, actuator string, spec Spec, kick float64) (*Simulated,
 func simulate(r *rig.Rig, actuators []string, spec Spec, kick float64) (*Simulated, error) {
 	actuator := actuators[0]
 	robot := r.Robot.Clone()
+	screws := Screws(robot)
 	for i := range robot.Actuators {
-		if a := &robot.Actuators[i]; a.Kind == models.LeadScrew && !a.Ballast {
+		if a := &robot.Actuators[i]; slices.Contains(screws, a.Name) {
 			a.Backlash = 0
 			if slices.Contains(actuators, a.Name) {
 				a.Backlash = spec.Backlash
