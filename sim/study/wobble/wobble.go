@@ -688,15 +688,10 @@ func (s *Simulated) rattles(width float64) bool {
 	return !s.Fell && s.OutputAmp > s.ScrewAmp && 2*s.OutputAmp > width/2
 }
 
-// Simulate runs the rig with the backlash in one screw, the others without
-// play, shoved at 1 s by kick N*s, and measures the cycle over the window
-// at the end.
-func Simulate(r *rig.Rig, actuator string, spec Spec, kick float64) (*Simulated, error) {
-	return simulate(r, []string{actuator}, spec, kick)
-}
-
-// simulate is Simulate with the backlash in every listed screw; the screw
-// and output amplitudes are the first one's.
+// simulate runs the rig with the backlash in every listed screw, the other
+// screws without play, shoved at 1 s by kick N*s, and measures the cycle
+// over the window at the end; the screw and output amplitudes are the
+// first listed screw's.
 func simulate(r *rig.Rig, actuators []string, spec Spec, kick float64) (*Simulated, error) {
 	actuator := actuators[0]
 	robot := r.Robot.Clone()
