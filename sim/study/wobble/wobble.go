@@ -1,8 +1,10 @@
-// Package wobble predicts the limit cycle that backlash in a lead screw's
-// loop makes, by the describing function of backlash and harmonic balance
-// on the loop's linear part measured from the rig by sine injection, and
-// runs the rig with the backlash, kicked, to set the prediction beside the
-// simulation.
+// Package wobble predicts the limit cycle that backlash in lead screws
+// makes, by harmonic balance of describing functions of the play (thrown
+// across by the load where the standing load holds the nut on a flank,
+// classic backlash where the joint's friction holds it) with the loops'
+// linear part measured from the rig by sine injection, says where that
+// model does not hold, and runs the rig with the backlash, shoved, to set
+// the prediction beside the simulation.
 package wobble
 
 import (
@@ -48,19 +50,19 @@ func BacklashDF(a, width float64) complex128 {
 // g(jw) and backlash of the given width in series, by harmonic balance:
 // 1 + N(a) g(jw) = 0 (see Balance).
 func BacklashCycle(g func(w float64) complex128, width, wlo, whi float64) (a, w, residual float64, ok bool) {
-	return Balance(func(a, w float64) complex128 { return 1 + BacklashDF(a, width)*g(w) }, width, wlo, whi)
+	return Balance(func(a, w float64) complex128 { return 1 + BacklashDF(a, width)*g(w) }, width/2, wlo, whi)
 }
 
 // Balance solves a harmonic balance f(a, w) = 0 over the frequencies
-// wlo..whi and the amplitudes above half the play: it scans for every pair
+// wlo..whi and the amplitudes from alo to 1000 times it: it scans for every pair
 // that satisfies it to within 1e-3, keeps those that are stable cycles
 // (stable), and returns the one of largest amplitude with its residual
 // |f|; ok is false when there is none, and the best pair found is
 // returned.
-func Balance(f func(a, w float64) complex128, width, wlo, whi float64) (a, w, residual float64, ok bool) {
+func Balance(f func(a, w float64) complex128, alo, wlo, whi float64) (a, w, residual float64, ok bool) {
 	const n = 200
 	res := func(a, w float64) float64 { return cmplx.Abs(f(a, w)) }
-	ai := func(k int) float64 { return width / 2 * math.Pow(1000, float64(k)/n) }
+	ai := func(k int) float64 { return alo * math.Pow(1000, float64(k)/n) }
 	wi := func(i int) float64 { return wlo * math.Pow(whi/wlo, float64(i)/n) }
 	grid := make([][]float64, n+1)
 	for i := range grid {
@@ -76,7 +78,7 @@ func Balance(f func(a, w float64) complex128, width, wlo, whi float64) (a, w, re
 			if !localMinimum(grid, i, k) {
 				continue
 			}
-			ca, cw, v := refine(res, ai(k), wi(i), width)
+			ca, cw, v := refine(res, ai(k), wi(i), alo)
 			if v < best && !ok {
 				a, w, best = ca, cw, v
 			}
@@ -101,14 +103,15 @@ func localMinimum(grid [][]float64, i, k int) bool {
 	return true
 }
 
-// refine is a pattern search for the balance from a grid point.
-func refine(res func(a, w float64) float64, a, w, width float64) (float64, float64, float64) {
+// refine is a pattern search for the balance from a grid point, over
+// amplitudes above alo.
+func refine(res func(a, w float64) float64, a, w, alo float64) (float64, float64, float64) {
 	best := res(a, w)
 	da, dw := a*0.05, w*0.05
 	for it := 0; it < 2000 && (da > a*1e-10 || dw > w*1e-10); it++ {
 		moved := false
 		for _, s := range [][2]float64{{da, 0}, {-da, 0}, {0, dw}, {0, -dw}} {
-			if v := res(a+s[0], w+s[1]); a+s[0] > width/2 && w+s[1] > 0 && v < best {
+			if v := res(a+s[0], w+s[1]); a+s[0] > alo && w+s[1] > 0 && v < best {
 				best, a, w, moved = v, a+s[0], w+s[1], true
 			}
 		}
@@ -133,17 +136,18 @@ func stable(f func(a, w float64) complex128, a, w float64) bool {
 	return real(fa)*imag(fw)-real(fw)*imag(fa) > 0
 }
 
-// The linear part of a loop closed through one screw's backlash is what
-// the rest of the loop does with the joint's motion: the joint moves y, the
-// robot's dynamics, the sensors, the controller and the motor move the
-// screw x = -G y. With no play the screw is tied to the joint, so it is
-// measured by injection: the idealised rig (package modes: no noise, no
-// play anywhere) stands, a sine d is added between the screw and the joint
-// (the screw slips by d, the joint follows), and once the response is
-// steady G(jw) = -X/Y from the Fourier coefficients of x = screw - d and y
-// over whole periods. The describing function N(a) of backlash with input
-// x, output y, then closes the balance 1 + N(a) G(jw) = 0 (Slotine and Li,
-// Applied Nonlinear Control, 1991, ch. 5).
+// The linear part of the loops through the screws is what the rest of the
+// robot does with the gaps in the play (each joint's output less its
+// screw): the robot's dynamics, the sensors, the controller and the motors
+// turn a gap into loads on the screws and motion of the screws. With no
+// play a screw is tied to its joint, so it is measured by injection: the
+// idealised rig (package modes: no noise, no play anywhere) stands, a sine
+// is added between one screw and its joint (the screw slips, the joint
+// follows), and once the response is steady the Fourier coefficients over
+// whole periods give each screw's load and motion per unit of that gap.
+// The plays close the loops (see play), and the harmonic balance of the
+// two is the prediction (Slotine and Li, Applied Nonlinear Control, 1991,
+// ch. 5; Gelb and Vander Velde, 1968, ch. 2).
 
 // Spec asks for the backlash limit cycle of some screws.
 type Spec struct {
@@ -188,20 +192,40 @@ func Screws(robot *models.Robot) []string {
 	return out
 }
 
-// Why a prediction was not made.
-const (
-	NoBalance  = "no limit cycle: the harmonic balance has no solution"
-	Unfiltered = "no dominant harmonic: the loop passes the third harmonic as strongly as the fundamental"
-	Preloaded  = "no limit cycle: the joint's static load holds the play closed"
-)
+// NoBalance is why a prediction was not made.
+const NoBalance = "no limit cycle: the harmonic balance has no solution"
 
-// Rattles is why a prediction is not valid where the simulation shows the
-// joint rattling: the describing function models a play whose output stays
-// where the input left it until the input comes round.
-const Rattles = "not valid here: in the simulation the joint swings further than its screw, crossing the play on its own, which backlash's describing function does not describe; read the simulation"
+// Loose is why no prediction is made for several screws when one of them
+// carries less standing load than its joint's friction: such a joint is
+// free inside its play, and with another screw's play the robot can move
+// inside both without either screw or either load deciding the sides,
+// which neither play model covers (the simulation of the built-in frontal
+// robot wobbles with the play in its hips and ankles together, each pair
+// alone calm).
+const Loose = "not valid here: %s stands with %.2f %s of load, under its joint's %.2f %[3]s of friction, so its joint is loose inside the play; with the play in other screws too the model does not hold; read the simulation"
 
-// Prediction is the describing function's answer for one screw's
-// loop, the other screws without play.
+// NearDeadband is why a prediction is not valid: the linear part is
+// measured without the motor's deadband, which a cycle whose command
+// swings little past it would feel (its describing function under
+// deadbandReach), with the command's swing and the deadband in percent of
+// full PWM.
+const NearDeadband = "not valid here: the cycle's command swings %.1f %% of full PWM, too near the motor's %.0f %% deadband, which the linear part leaves out; read the simulation"
+
+// Saturates is why a prediction is not valid: the cycle would need a
+// motor command beyond full PWM.
+const Saturates = "not valid here: the cycle's command swings %.0f %% of full PWM, past what the motor can take; read the simulation"
+
+// deadbandReach is the share of a command's swing a deadband may take
+// (its describing function, the gain left) for the loop to count as
+// linear in it.
+const deadbandReach = 0.8
+
+// Prediction is the describing function's answer for one screw's loop,
+// the other screws without play, or for all the screws' plays together.
+// It is found (Found) or why not is said (Why, NoBalance or Loose), and a
+// cycle found is marked (NotValid) where the loop it was balanced on
+// leaves out what the cycle would meet: a deadband near the command's
+// swing, a command past full PWM.
 type Prediction struct {
 	Actuator    string  `json:"actuator"`
 	Found       bool    `json:"found"`
@@ -210,13 +234,19 @@ type Prediction struct {
 	OutputAmp   float64 `json:"output_amp"`    // at its output (the joint)
 	TiltAmp     float64 `json:"tilt_amp_deg"`  // of the torso tilt
 	FrequencyHz float64 `json:"frequency_hz"`  // of the cycle
-	Residual    float64 `json:"residual"`      // |1 + N G| at the solution
+	Residual    float64 `json:"residual"`      // of the harmonic balance at the solution (0 holds it exactly)
 	Rotary      bool    `json:"rotary"`        // amplitudes in rad, else m
 	// StaticLoad is the screw's load standing, and LoadAmp the load's
 	// swing the cycle would need, N or N*m: a swing smaller than the
 	// static load never turns the load round to cross the play.
 	StaticLoad float64 `json:"static_load"`
 	LoadAmp    float64 `json:"load_amp"`
+	// CommandAmp is the largest swing of a screw's motor command in the
+	// cycle, a fraction of full PWM.
+	CommandAmp float64 `json:"command_amp"`
+	// NotValid says why the answer found does not hold here, when it
+	// does not.
+	NotValid string `json:"not_valid,omitempty"`
 }
 
 // Simulated is the rig run with the backlash in one screw, kicked.
@@ -234,9 +264,6 @@ type Simulated struct {
 type Loop struct {
 	Prediction
 	Sims []Simulated `json:"sims"` // one per Spec.Kicks
-	// NotValid says why the prediction does not hold for this case, as the
-	// simulation shows (Rattles), when it does not.
-	NotValid string `json:"not_valid,omitempty"`
 }
 
 // Wobbles is the run with the largest wobble, or nil when none wobbles.
@@ -286,12 +313,16 @@ type Result struct {
 // loop alone is its column's diagonal entry; together, x = -G y with
 // G = -X Y^-1.
 type Response struct {
-	Actuators  []string
-	Rotary     []bool
-	Hz         []float64
-	X, Y, Load []cmat // n x n per frequency
-	Tilt       []cmat // 1 x n per frequency
-	StaticLoad []float64
+	Actuators           []string
+	Rotary              []bool
+	Hz                  []float64
+	X, Y, Load, Command []cmat // n x n per frequency
+	Tilt                []cmat // 1 x n per frequency
+	StaticLoad          []float64
+	// Friction is each screw's joint friction as a force (or torque) at
+	// the screw, and Deadband its motor's, a fraction of full PWM: the
+	// linear part is measured without either (see modes.Ideal).
+	Friction, Deadband []float64
 }
 
 // responseHz are the frequencies measured, a log scale over the range a
@@ -313,9 +344,10 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 	for _, name := range actuators {
 		i := slices.IndexFunc(ideal.Robot.Actuators, func(a models.Actuator) bool { return a.Name == name })
 		if i < 0 || !slices.Contains(Screws(ideal.Robot), name) {
-			return nil, fmt.Errorf("wobble: %q is not a lead screw of %s (the screws: %s)", name, r.Robot.Name, strings.Join(Screws(ideal.Robot), ", "))
+			return nil, fmt.Errorf("wobble: %q is not a lead screw of %s (the screws: %s)", name, ideal.Robot.Name, strings.Join(Screws(ideal.Robot), ", "))
 		}
 		res.Rotary = append(res.Rotary, modes.Rotary(ideal.Robot, &ideal.Robot.Actuators[i]))
+		res.Deadband = append(res.Deadband, r.Robot.Actuators[i].Deadband)
 	}
 	p, _, err := ideal.Build(sim.Options{Seed: seed})
 	if err != nil {
@@ -329,15 +361,16 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 		return nil, err
 	}
 	rec := p.Recorder()
-	cols, err := findColumns(rec, actuators)
+	cols, err := findColumns(rec, r.Robot, actuators)
 	if err != nil {
 		return nil, err
 	}
 	for i := range actuators {
 		res.StaticLoad[i] = rec.At(rec.Len()-1, cols.load[i])
 	}
-	for _, hz := range res.Hz {
-		x, y, load, tilt := newCmat(n, n), newCmat(n, n), newCmat(n, n), newCmat(1, n)
+	res.Friction = slices.Clone(cols.friction)
+	for k, hz := range res.Hz {
+		x, y, load, command, tilt := newCmat(n, n), newCmat(n, n), newCmat(n, n), newCmat(n, n), newCmat(1, n)
 		for j, name := range actuators {
 			// Well above the solver's 20 um of slop at a rigid screw, well
 			// below what upsets a standing robot.
@@ -360,13 +393,20 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 				x.set(i, j, s.coef(cols.screw[i], injectedHere))
 				y.set(i, j, s.coef(cols.out[i], 0))
 				load.set(i, j, s.coef(cols.load[i], 0))
+				command.set(i, j, s.coef(cols.command[i], 0))
+			}
+			if k == 0 && cols.joint[j] >= 0 {
+				// The screw's lever on its joint, from the slow swing:
+				// the joint's friction torque over it is a force at the
+				// screw.
+				res.Friction[j] = cols.friction[j] * cmplx.Abs(s.coef(cols.joint[j], 0)/y.at(j, j))
 			}
 			tilt.set(0, j, s.coef(cols.tilt, 0))
 			if y.at(j, j) == 0 {
 				return nil, fmt.Errorf("wobble: no response at %.3g Hz", hz)
 			}
 		}
-		res.X, res.Y, res.Load, res.Tilt = append(res.X, x), append(res.Y, y), append(res.Load, load), append(res.Tilt, tilt)
+		res.X, res.Y, res.Load, res.Command, res.Tilt = append(res.X, x), append(res.Y, y), append(res.Load, load), append(res.Command, command), append(res.Tilt, tilt)
 	}
 	return res, nil
 }
@@ -376,11 +416,16 @@ const settle = 2.0
 
 // responseColumns are the recorded columns Measure reads.
 type responseColumns struct {
-	time, tilt       int
-	screw, out, load []int // per actuator
+	time, tilt                int
+	screw, out, load, command []int // per actuator
+	// joint is the column of the joint a from/to screw turns (-1 for none
+	// or a screw on its joint's own coordinate, whose friction is already
+	// at the screw), and friction that joint's friction.
+	joint    []int
+	friction []float64
 }
 
-func findColumns(rec *sim.Recorder, actuators []string) (responseColumns, error) {
+func findColumns(rec *sim.Recorder, robot *models.Robot, actuators []string) (responseColumns, error) {
 	var err error
 	col := func(name string) int {
 		c := rec.Index(name)
@@ -391,9 +436,20 @@ func findColumns(rec *sim.Recorder, actuators []string) (responseColumns, error)
 	}
 	n := len(actuators)
 	cols := responseColumns{time: col("time"), tilt: col("torso_tilt"),
-		screw: make([]int, n), out: make([]int, n), load: make([]int, n)}
+		screw: make([]int, n), out: make([]int, n), load: make([]int, n), command: make([]int, n),
+		joint: make([]int, n), friction: make([]float64, n)}
 	for i, name := range actuators {
-		cols.screw[i], cols.out[i], cols.load[i] = col(name+".screw"), col(name+".output"), col(name+".force")
+		cols.screw[i], cols.out[i], cols.load[i], cols.command[i] = col(name+".screw"), col(name+".output"), col(name+".force"), col(name+".command")
+		cols.joint[i] = -1
+		a := &robot.Actuators[slices.IndexFunc(robot.Actuators, func(a models.Actuator) bool { return a.Name == name })]
+		for _, j := range robot.Joints {
+			switch {
+			case j.Name == a.Joint:
+				cols.friction[i] = j.Friction
+			case a.From != nil && a.To != nil && (j.Parent == a.From.Link && j.Child == a.To.Link || j.Parent == a.To.Link && j.Child == a.From.Link):
+				cols.joint[i], cols.friction[i] = col(j.Name+".position"), j.Friction
+			}
+		}
 	}
 	return cols, err
 }
@@ -460,25 +516,41 @@ func (s swing) coef(c int, less float64) complex128 {
 	return sum
 }
 
-// loop is the linear part at one frequency, as matrices on the outputs: the
-// screws x = -G y, the tilt and the loads per unit of the outputs.
-type loop struct{ g, tilt, load cmat }
+// loop is the linear part at one frequency per unit of the gaps (each
+// joint's output less its screw): the force that holds the gaps there, and
+// the tilt, commands, screws and outputs that go with them.
+type loop struct{ force, tilt, command, screw, out cmat }
 
 // together is the loop through every measured screw at once.
 func (r *Response) together(k int) (loop, bool) {
-	yi, ok := r.Y[k].inverse()
+	n := r.Y[k].rows
+	gaps := newCmat(n, n)
+	for i := range gaps.v {
+		gaps.v[i] = r.Y[k].v[i] - r.X[k].v[i]
+	}
+	per, ok := gaps.inverse()
 	if !ok {
 		return loop{}, false
 	}
-	return loop{g: r.X[k].mul(yi).scale(-1), tilt: r.Tilt[k].mul(yi), load: r.Load[k].mul(yi)}, true
+	return loop{force: r.Load[k].mul(per), tilt: r.Tilt[k].mul(per), command: r.Command[k].mul(per),
+		screw: r.X[k].mul(per), out: r.Y[k].mul(per)}, true
 }
 
 // alone is the loop through screw j, the others without play: its own
 // injection's responses.
 func (r *Response) alone(k, j int) loop {
-	y := r.Y[k].at(j, j)
-	one := func(v complex128) cmat { m := newCmat(1, 1); m.set(0, 0, v); return m }
-	return loop{g: one(-r.X[k].at(j, j) / y), tilt: one(r.Tilt[k].at(0, j) / y), load: one(r.Load[k].at(j, j) / y)}
+	gap := r.Y[k].at(j, j) - r.X[k].at(j, j)
+	one := func(v complex128) cmat { m := newCmat(1, 1); m.set(0, 0, v/gap); return m }
+	return loop{force: one(r.Load[k].at(j, j)), tilt: one(r.Tilt[k].at(0, j)), command: one(r.Command[k].at(j, j)),
+		screw: one(r.X[k].at(j, j)), out: one(r.Y[k].at(j, j))}
+}
+
+// screwsOf picks screw j's entries of a per-screw list, or all of them.
+func screwsOf(xs []float64, j int) []float64 {
+	if j < 0 {
+		return xs
+	}
+	return xs[j : j+1]
 }
 
 // Alone predicts the cycle of screw j's loop with the given play, the other
@@ -488,15 +560,14 @@ func (r *Response) Alone(j int, width float64) Prediction {
 	for k := range r.Hz {
 		loops[k] = r.alone(k, j)
 	}
-	pr := r.predict(loops, width, []float64{r.StaticLoad[j]})
+	pr := r.predict(loops, width, j)
 	pr.Actuator, pr.Rotary = r.Actuators[j], r.Rotary[j]
 	return pr
 }
 
 // Together predicts the cycle with the given play in every measured screw,
-// taking the same amplitude at each (one describing function for all), as
-// the symmetric left-right modes of a robot have; the amplitudes given are
-// the largest screw's.
+// each with its own amplitude and phase; the amplitudes given are the
+// largest screw's.
 func (r *Response) Together(width float64) Prediction {
 	loops := make([]loop, len(r.Hz))
 	for k := range r.Hz {
@@ -506,61 +577,98 @@ func (r *Response) Together(width float64) Prediction {
 		}
 		loops[k] = l
 	}
-	pr := r.predict(loops, width, r.StaticLoad)
+	pr := r.predict(loops, width, -1)
 	pr.Actuator, pr.Rotary = "all", slices.Contains(r.Rotary, true) && !slices.Contains(r.Rotary, false)
 	return pr
 }
 
-// predict solves det(I + N(a) G(jw)) = 0 on the loops interpolated between
-// the measured frequencies and checks the describing function's
-// assumptions at the answer.
-func (r *Response) predict(loops []loop, width float64, static []float64) Prediction {
+// predict solves the harmonic balance of the plays (see play) on the
+// loops interpolated between the measured frequencies: first with every
+// play's input swinging by the same multiple of its threshold, which
+// finds the cycle and its stability (Balance; exact for one screw), then
+// each play with its own amplitude and phase (vectorBalance). screw is
+// the one screw with play, or -1 for all of them.
+func (r *Response) predict(loops []loop, width float64, screw int) Prediction {
+	static, friction, deadband := screwsOf(r.StaticLoad, screw), screwsOf(r.Friction, screw), screwsOf(r.Deadband, screw)
+	n := len(static)
 	pr := Prediction{StaticLoad: maxAbs(static)}
-	at := func(w float64) loop {
-		return loop{g: r.interpolate(loops, w, func(l loop) cmat { return l.g }),
-			tilt: r.interpolate(loops, w, func(l loop) cmat { return l.tilt }),
-			load: r.interpolate(loops, w, func(l loop) cmat { return l.load })}
+	plays := make([]play, n)
+	for i := range plays {
+		plays[i] = newPlay(width, friction[i], static[i])
+		if n > 1 && !plays[i].thrown {
+			unit := "N"
+			if r.Rotary[i] {
+				unit = "N*m"
+			}
+			pr.Why = fmt.Sprintf(Loose, r.Actuators[i], math.Abs(static[i]), unit, friction[i])
+			return pr
+		}
 	}
-	f := func(a, w float64) complex128 {
-		g := r.interpolate(loops, w, func(l loop) cmat { return l.g })
-		return g.scale(BacklashDF(a, width)).plusIdentity().det()
+	at := func(w float64, pick func(loop) cmat) cmat { return r.interpolate(loops, w, pick) }
+	// inputs maps the gaps to each play's input: its load or its screw.
+	inputs := func(w float64) cmat {
+		force, screws := at(w, func(l loop) cmat { return l.force }), at(w, func(l loop) cmat { return l.screw })
+		out := newCmat(n, n)
+		for i := range n {
+			from := screws
+			if plays[i].thrown {
+				from = force
+			}
+			copy(out.v[i*n:(i+1)*n], from.v[i*n:(i+1)*n])
+		}
+		return out
 	}
+	d := func(ratio float64) cmat {
+		m := newCmat(n, n)
+		for i, pl := range plays {
+			m.set(i, i, pl.gapPer(ratio*pl.threshold()))
+		}
+		return m
+	}
+	f := func(ratio, w float64) complex128 { return d(ratio).mul(inputs(w)).plusIdentity().det() }
 	wlo, whi := 2*math.Pi*r.Hz[0], 2*math.Pi*r.Hz[len(r.Hz)-1]
-	a, w, resid, ok := Balance(f, width, wlo, whi)
+	ratio, w, resid, ok := Balance(f, 1+1e-9, wlo, whi)
 	pr.Residual = resid
 	if !ok {
 		pr.Why = NoBalance
 		return pr
 	}
-	n := BacklashDF(a, width)
-	l := at(w)
-	// The cycle's shape: x in the null space of I + N G, the largest screw
-	// at amplitude a; the outputs y = N x.
-	shape, ok := l.g.scale(n).plusIdentity().nullVector()
+	gaps, ok := d(ratio).mul(inputs(w)).plusIdentity().nullVector()
 	if !ok {
 		pr.Why = NoBalance
 		return pr
 	}
-	shape = shape.scale(complex(a/maxAbsC(shape.v), 0))
-	y := shape.scale(n)
-	loads := l.load.mul(y)
-	pr.LoadAmp = math.Inf(1)
-	preloaded := false
-	for i, s := range static {
-		swing := cmplx.Abs(loads.at(i, 0))
-		pr.LoadAmp = math.Min(pr.LoadAmp, swing)
-		preloaded = preloaded || math.Abs(s) > swing
+	// Scaled so that the play furthest past its threshold is ratio past.
+	u := inputs(w).mul(gaps)
+	most := 0.0
+	for i, pl := range plays {
+		most = math.Max(most, cmplx.Abs(u.v[i])/pl.threshold())
 	}
-	switch {
-	case 3*w <= whi && at(3*w).g.norm() >= l.g.norm():
-		pr.Why = Unfiltered
-	case preloaded:
-		pr.Why = Preloaded
-	default:
-		pr.Found = true
-		pr.ScrewAmp, pr.OutputAmp = a, a*cmplx.Abs(n)
-		pr.TiltAmp = cmplx.Abs(l.tilt.mul(y).at(0, 0)) * 180 / math.Pi
-		pr.FrequencyHz = w / (2 * math.Pi)
+	gaps = gaps.scale(complex(ratio/most, 0))
+	if n > 1 {
+		gaps, w, pr.Residual, ok = vectorBalance(plays, inputs, gaps, w)
+		if !ok {
+			pr.Why = NoBalance
+			return pr
+		}
+	}
+	pr.Found = true
+	pr.FrequencyHz = w / (2 * math.Pi)
+	pr.LoadAmp = maxAbsC(at(w, func(l loop) cmat { return l.force }).mul(gaps).v)
+	pr.TiltAmp = cmplx.Abs(at(w, func(l loop) cmat { return l.tilt }).mul(gaps).at(0, 0)) * 180 / math.Pi
+	pr.ScrewAmp = maxAbsC(at(w, func(l loop) cmat { return l.screw }).mul(gaps).v)
+	pr.OutputAmp = maxAbsC(at(w, func(l loop) cmat { return l.out }).mul(gaps).v)
+	commands := at(w, func(l loop) cmat { return l.command }).mul(gaps)
+	worst := deadbandReach // the gain the deadband leaves the worst screw
+	for i, db := range deadband {
+		c := cmplx.Abs(commands.at(i, 0))
+		pr.CommandAmp = math.Max(pr.CommandAmp, c)
+		if g := DeadbandDF(c, db); db > 0 && g < worst {
+			worst, pr.NotValid = g, fmt.Sprintf(NearDeadband, 100*c, 100*db)
+		}
+	}
+	if pr.CommandAmp > 1 {
+		pr.NotValid = fmt.Sprintf(Saturates, 100*pr.CommandAmp)
 	}
 	return pr
 }
@@ -643,7 +751,6 @@ func Run(r *rig.Rig, spec Spec) (*Result, error) {
 		if err := simulateAll(r, []string{name}, spec, &l); err != nil {
 			return nil, err
 		}
-		l.judge(spec.Backlash)
 		res.Loops = append(res.Loops, l)
 	}
 	if len(spec.Actuators) > 1 {
@@ -651,7 +758,6 @@ func Run(r *rig.Rig, spec Spec) (*Result, error) {
 		if err := simulateAll(r, spec.Actuators, spec, res.All); err != nil {
 			return nil, err
 		}
-		res.All.judge(spec.Backlash)
 	}
 	return res, nil
 }
@@ -672,20 +778,6 @@ func simulateAll(r *rig.Rig, actuators []string, spec Spec, l *Loop) error {
 		})
 	}
 	return g.Wait()
-}
-
-// judge marks the prediction not valid where the simulated cycle rattles.
-func (l *Loop) judge(width float64) {
-	if s := l.Wobbles(); s != nil && s.rattles(width) {
-		l.NotValid = Rattles
-	}
-}
-
-// rattles reports a cycle in which the joint swings further than its
-// screw and across much of the play: it crosses the play on its own,
-// where backlash's output stays put until the input comes round.
-func (s *Simulated) rattles(width float64) bool {
-	return !s.Fell && s.OutputAmp > s.ScrewAmp && 2*s.OutputAmp > width/2
 }
 
 // simulate runs the rig with the backlash in every listed screw, the other
