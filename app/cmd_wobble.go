@@ -100,7 +100,7 @@ func cmdWobble(args []string, stdout, stderr io.Writer) error {
 	for i, l := range res.Loops {
 		names[i] = l.Actuator
 	}
-	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then, for more than one, all together (all: the same amplitude at each screw, the largest screw's shown); each case simulated after each shove at 1 s, the largest wobble shown\n", *backlashText, strings.Join(names, ","), r.Robot.Name)
+	fmt.Fprintf(stdout, "backlash %s in %s of %s: each screw alone (the others without play), then, for more than one, all together (all: the largest screw's amplitudes shown); each case simulated after each shove at 1 s, the largest wobble shown\n", *backlashText, strings.Join(names, ","), r.Robot.Name)
 	fmt.Fprintf(stdout, "%-12s %-10s %12s %12s %10s %10s\n", "", "", "screw amp", "output amp", "tilt deg", "freq Hz")
 	loops := res.Loops
 	if res.All != nil {
