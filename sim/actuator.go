@@ -42,6 +42,7 @@ type actuator struct {
 	lag      float64 // 1 - exp(-dt/tau): fraction of the speed error closed per step
 	backlash float64
 	command  float64 // [-1, 1], held between controller ticks
+	offset   float64 // added to the controller's command (OffsetCommand)
 	screw    float64 // screw position (= output for a torque motor), m or rad
 	speed    float64 // screw speed
 	force    float64 // force or torque delivered on the output, + along +position

@@ -228,3 +228,24 @@ func TestBattery(t *testing.T) {
 		t.Errorf("screw speed %.5f m/s at %.2f V, want %.5f", a.speed, p.battery.voltage, want)
 	}
 }
+
+func TestOffsetCommandAddsToTheController(t *testing.T) {
+	// The motor runs on the controller's duty plus the offset: 0.25 + 0.5
+	// of a 20 mm/s no-load speed is 15 mm/s (the speed proportional to the
+	// duty, TestLeadScrewSpeed), and the recorded command is the sum.
+	p := newPlant(t, slider(0.5, models.Vec2{X: 1}, models.LeadScrew, 0, 0, 0), constant(0.25))
+	if err := p.OffsetCommand("screw", 0.5); err != nil {
+		t.Fatal(err)
+	}
+	screw, _ := screwSpeed(t, p)
+	if want := 0.015; math.Abs(screw/want-1) > 0.01 {
+		t.Errorf("duty 0.25 offset by 0.5: %.5f m/s, want %.5f m/s", screw, want)
+	}
+	rec := p.Recorder()
+	if got := rec.At(rec.Len()-1, rec.Index("screw.command")); got != 0.75 {
+		t.Errorf("recorded command %g, want 0.75", got)
+	}
+	if err := p.OffsetCommand("nut", 0.1); err == nil {
+		t.Error("an offset for an actuator the robot lacks is taken")
+	}
+}

@@ -518,13 +518,11 @@ func (p *Plant) SetBacklash(actuator string, b float64) error {
 	if !finite(b) || b < 0 {
 		return fmt.Errorf("sim: backlash %g must be a finite, non-negative value", b)
 	}
-	for i := range p.acts {
-		if p.acts[i].name == actuator {
-			p.acts[i].backlash = b
-			return nil
-		}
+	a, err := p.actuatorNamed(actuator)
+	if err == nil {
+		a.backlash = b
 	}
-	return fmt.Errorf("sim: no actuator %q", actuator)
+	return err
 }
 
 // RunFor advances the plant by d seconds (whole physics steps).
@@ -563,7 +561,7 @@ func (p *Plant) Step() (err error) {
 			return e
 		}
 		for i := range p.commands {
-			c := p.commands[i]
+			c := p.commands[i] + p.acts[i].offset
 			if !(c >= -1) {
 				c = -1 // also NaN: a broken controller must not reach the physics
 			} else if c > 1 {
