@@ -8,6 +8,22 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
+// element is a nonlinear part of the loop as the harmonic balance sees
+// it: what it puts into the loop is minus gapPer times its input, for an
+// input swinging by a, and below threshold it passes nothing on.
+type element interface {
+	gapPer(a float64) complex128
+	threshold() float64
+}
+
+// deadband is a motor's deadband (a fraction of full PWM) as an element:
+// what it puts in is the command reaching the motor less the
+// controller's, (DeadbandDF - 1) times the controller's.
+type deadband float64
+
+func (d deadband) gapPer(a float64) complex128 { return complex(1-DeadbandDF(a, float64(d)), 0) }
+func (d deadband) threshold() float64          { return float64(d) }
+
 // play is one screw's play as the harmonic balance sees it. A screw whose
 // standing load beats its joint's friction has its nut held on one flank
 // and the play thrown across by the load (ThrownPlayDF, input the load);
@@ -44,15 +60,17 @@ func (p play) gapPer(a float64) complex128 {
 	return 1 - BacklashDF(a, p.width)
 }
 
-// vectorBalance solves the harmonic balance of several plays in one
-// linear loop, each with its own amplitude and phase (Gelb and Vander
+// vectorBalance solves the harmonic balance of several nonlinear parts in
+// one linear loop, each with its own amplitude and phase (Gelb and Vander
 // Velde, 1968, ch. 2, one sinusoid through every nonlinearity):
-// e + D(|u|) u = 0 with u = R(w) e, where e are the gaps, u each play's
-// input (row i of R maps the gaps to it) and D each play's gapPer. It is
+// e + D(|u|) u = 0 with u = R(w) e, where e is what the parts put in (a
+// play's gap, a deadband's offset), u each part's input (row i of R maps e
+// to it) and D each part's gapPer. It is
 // Newton's method on the real and imaginary parts from the gaps e0 at w0,
 // the largest gap's phase held at zero and w free; ok is false when it
-// does not converge or converges to a state where no play crosses.
-func vectorBalance(plays []play, r func(w float64) cmat, e0 cmat, w0 float64) (e cmat, w, residual float64, ok bool) {
+// does not converge or converges to a state where no part passes
+// anything on.
+func vectorBalance(plays []element, r func(w float64) cmat, e0 cmat, w0 float64) (e cmat, w, residual float64, ok bool) {
 	n := len(plays)
 	p := 0
 	for i, v := range e0.v {
@@ -142,7 +160,7 @@ func vectorBalance(plays []play, r func(w float64) cmat, e0 cmat, w0 float64) (e
 	}
 	u := r(w).mul(e)
 	for i := range n {
-		if cmplx.Abs(u.v[i]) > plays[i].threshold() {
+		if _, isPlay := plays[i].(play); isPlay && cmplx.Abs(u.v[i]) > plays[i].threshold() {
 			return e, w, residual, true
 		}
 	}

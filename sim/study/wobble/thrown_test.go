@@ -108,8 +108,8 @@ func TestVectorBalanceOnTwoLoopsInOne(t *testing.T) {
 		}
 		return m
 	}
-	plays := []play{newPlay(width, 1, 0), newPlay(width, 1, 0)}
-	if plays[0].thrown {
+	plays := []element{newPlay(width, 1, 0), newPlay(width, 1, 0)}
+	if plays[0].(play).thrown {
 		t.Fatal("an unloaded screw taken for one whose load throws the play")
 	}
 	// The servo's gap at the hand solution: e = (Nb - 1) x.

@@ -204,21 +204,15 @@ const NoBalance = "no limit cycle: the harmonic balance has no solution"
 // alone calm).
 const Loose = "not valid here: %s stands with %.2f %s of load, under its joint's %.2f %[3]s of friction, so its joint is loose inside the play; with the play in other screws too the model does not hold; read the simulation"
 
-// NearDeadband is why a prediction is not valid: the linear part is
-// measured without the motor's deadband, which a cycle whose command
-// swings little past it would feel (its describing function under
-// deadbandReach), with the command's swing and the deadband in percent of
-// full PWM.
-const NearDeadband = "not valid here: the cycle's command swings %.1f %% of full PWM, too near the motor's %.0f %% deadband, which the linear part leaves out; read the simulation"
+// Unstable is why no cycle is predicted though the balance has a
+// solution: it is an unstable cycle, the edge between staying calm and
+// being driven off by a large enough shove, to a wobble the balance did
+// not find.
+const Unstable = "not valid here: the balance has only an unstable cycle (%.3f deg at %.2f Hz); a shove past it may start a wobble the model does not follow; read the simulation"
 
 // Saturates is why a prediction is not valid: the cycle would need a
 // motor command beyond full PWM.
 const Saturates = "not valid here: the cycle's command swings %.0f %% of full PWM, past what the motor can take; read the simulation"
-
-// deadbandReach is the share of a command's swing a deadband may take
-// (its describing function, the gain left) for the loop to count as
-// linear in it.
-const deadbandReach = 0.8
 
 // Prediction is the describing function's answer for one screw's loop,
 // the other screws without play, or for all the screws' plays together.
@@ -306,18 +300,23 @@ type Result struct {
 }
 
 // Response is the linear part of the loops through some lead screws,
-// measured at some frequencies by injecting at each screw in turn: per
-// frequency, column j of X, Y, Tilt and Load holds the Fourier
-// coefficients of every screw (less the injection), every output, the
-// torso tilt and every screw's load while screw j is driven. Each screw's
-// loop alone is its column's diagonal entry; together, x = -G y with
-// G = -X Y^-1.
+// measured at some frequencies by injecting a sine, one injection at a
+// time: injection j < n slips screw j against its joint, injection n + q
+// adds to the command of motor Driven[q] (the screws whose motors have a
+// deadband, which the linear part leaves out, so that the balance can put
+// it back). Per frequency, column j of each matrix holds the Fourier
+// coefficients while injection j runs: X every screw (less a slip), Y
+// every output, Load every screw's load, Command every motor's command
+// from the controller (less an added sine), Offset the added sines, Tilt
+// the torso tilt.
 type Response struct {
 	Actuators           []string
 	Rotary              []bool
 	Hz                  []float64
-	X, Y, Load, Command []cmat // n x n per frequency
-	Tilt                []cmat // 1 x n per frequency
+	Driven              []int
+	X, Y, Load, Command []cmat // n x (n + len(Driven)) per frequency
+	Offset              []cmat // len(Driven) x (n + len(Driven))
+	Tilt                []cmat // 1 x (n + len(Driven))
 	StaticLoad          []float64
 	// Friction is each screw's joint friction as a force (or torque) at
 	// the screw, and Deadband its motor's, a fraction of full PWM: the
@@ -369,46 +368,72 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 		res.StaticLoad[i] = rec.At(rec.Len()-1, cols.load[i])
 	}
 	res.Friction = slices.Clone(cols.friction)
+	for i, d := range res.Deadband {
+		if d > 0 {
+			res.Driven = append(res.Driven, i)
+		}
+	}
+	m := n + len(res.Driven)
 	for k, hz := range res.Hz {
-		x, y, load, command, tilt := newCmat(n, n), newCmat(n, n), newCmat(n, n), newCmat(n, n), newCmat(1, n)
-		for j, name := range actuators {
-			// Well above the solver's 20 um of slop at a rigid screw, well
-			// below what upsets a standing robot.
-			amp := 1e-4
-			if res.Rotary[j] {
-				amp = 0.2 * math.Pi / 180
-			}
+		x, y, load, command := newCmat(n, m), newCmat(n, m), newCmat(n, m), newCmat(n, m)
+		offset, tilt := newCmat(len(res.Driven), m), newCmat(1, m)
+		for j := range m {
 			if err := p.Restore(saved); err != nil {
 				return nil, err
 			}
-			s, err := inject(p, name, amp, hz, cols.time)
+			var s swing
+			var err error
+			slipped, driven := j, -1
+			if j < n {
+				// Well above the solver's 20 um of slop at a rigid screw,
+				// well below what upsets a standing robot.
+				amp := 1e-4
+				if res.Rotary[j] {
+					amp = 0.2 * math.Pi / 180
+				}
+				name := actuators[j]
+				s, err = inject(p, amp, hz, cols.time, func(d, was float64) error { return p.NudgeScrew(name, d-was) })
+			} else {
+				slipped, driven = -1, res.Driven[j-n]
+				name := actuators[driven]
+				s, err = inject(p, cols.commandAmp[driven](hz), hz, cols.time, func(d, _ float64) error { return p.OffsetCommand(name, d) })
+			}
 			if err != nil {
 				return nil, err
 			}
-			for i := range actuators {
-				injectedHere := 0.0
-				if i == j {
-					injectedHere = 1
-				}
-				x.set(i, j, s.coef(cols.screw[i], injectedHere))
+			for i := range n {
+				x.set(i, j, s.coef(cols.screw[i], indicator(i == slipped)))
 				y.set(i, j, s.coef(cols.out[i], 0))
 				load.set(i, j, s.coef(cols.load[i], 0))
-				command.set(i, j, s.coef(cols.command[i], 0))
+				command.set(i, j, s.coef(cols.command[i], indicator(i == driven)))
 			}
-			if k == 0 && cols.joint[j] >= 0 {
+			for q, i := range res.Driven {
+				if i == driven {
+					offset.set(q, j, s.coef(cols.command[i], 0)-s.coef(cols.command[i], 1))
+				}
+			}
+			tilt.set(0, j, s.coef(cols.tilt, 0))
+			if j < n && y.at(j, j) == 0 {
+				return nil, fmt.Errorf("wobble: no response at %.3g Hz", hz)
+			}
+			if k == 0 && j < n && cols.joint[j] >= 0 {
 				// The screw's lever on its joint, from the slow swing:
 				// the joint's friction torque over it is a force at the
 				// screw.
 				res.Friction[j] = cols.friction[j] * cmplx.Abs(s.coef(cols.joint[j], 0)/y.at(j, j))
 			}
-			tilt.set(0, j, s.coef(cols.tilt, 0))
-			if y.at(j, j) == 0 {
-				return nil, fmt.Errorf("wobble: no response at %.3g Hz", hz)
-			}
 		}
-		res.X, res.Y, res.Load, res.Command, res.Tilt = append(res.X, x), append(res.Y, y), append(res.Load, load), append(res.Command, command), append(res.Tilt, tilt)
+		res.X, res.Y, res.Load, res.Command = append(res.X, x), append(res.Y, y), append(res.Load, load), append(res.Command, command)
+		res.Offset, res.Tilt = append(res.Offset, offset), append(res.Tilt, tilt)
 	}
 	return res, nil
+}
+
+func indicator(b bool) float64 {
+	if b {
+		return 1
+	}
+	return 0
 }
 
 // settle is how long the robot stands, s, before anything is injected.
@@ -423,6 +448,10 @@ type responseColumns struct {
 	// at the screw), and friction that joint's friction.
 	joint    []int
 	friction []float64
+	// commandAmp is the command swing, at a frequency in Hz, that moves
+	// the screw about as far as a slip does (the motor's speed over w),
+	// within 1 to 30 % of full PWM.
+	commandAmp []func(hz float64) float64
 }
 
 func findColumns(rec *sim.Recorder, robot *models.Robot, actuators []string) (responseColumns, error) {
@@ -437,11 +466,18 @@ func findColumns(rec *sim.Recorder, robot *models.Robot, actuators []string) (re
 	n := len(actuators)
 	cols := responseColumns{time: col("time"), tilt: col("torso_tilt"),
 		screw: make([]int, n), out: make([]int, n), load: make([]int, n), command: make([]int, n),
-		joint: make([]int, n), friction: make([]float64, n)}
+		joint: make([]int, n), friction: make([]float64, n), commandAmp: make([]func(float64) float64, n)}
 	for i, name := range actuators {
 		cols.screw[i], cols.out[i], cols.load[i], cols.command[i] = col(name+".screw"), col(name+".output"), col(name+".force"), col(name+".command")
 		cols.joint[i] = -1
 		a := &robot.Actuators[slices.IndexFunc(robot.Actuators, func(a models.Actuator) bool { return a.Name == name })]
+		travel := 1e-4
+		if modes.Rotary(robot, a) {
+			travel = 0.2 * math.Pi / 180
+		}
+		cols.commandAmp[i] = func(hz float64) float64 {
+			return math.Min(math.Max(travel*2*math.Pi*hz/a.NoLoadSpeed, 0.01), 0.3)
+		}
 		for _, j := range robot.Joints {
 			switch {
 			case j.Name == a.Joint:
@@ -463,25 +499,26 @@ type swing struct {
 	amp, w  float64
 }
 
-// inject drives the named screw by amp sin(2 pi hz (t - settle)) from the
-// plant's state after settling.
-func inject(p *sim.Plant, name string, amp, hz float64, timeCol int) (swing, error) {
+// inject drives a sine amp sin(2 pi hz (t - settle)) into the plant from
+// its state after settling, through drive (given the sine's value now and
+// at the step before).
+func inject(p *sim.Plant, amp, hz float64, timeCol int, drive func(d, was float64) error) (swing, error) {
 	rec := p.Recorder()
 	w := 2 * math.Pi * hz
 	period := 1 / hz
 	start := settle + math.Max(1, period)   // the transient dies out
 	periods := math.Ceil(math.Max(3, 2*hz)) // at least 2 s
 	end := start + periods*period
-	injected := 0.0
+	was := 0.0
 	first := rec.Len()
 	for p.Time() < end {
 		d := amp * math.Sin(w*(p.Time()-settle))
-		if err := p.NudgeScrew(name, d-injected); err != nil {
+		if err := drive(d, was); err != nil {
 			return swing{}, err
 		}
-		injected = d
+		was = d
 		if err := p.Step(); err != nil {
-			return swing{}, fmt.Errorf("wobble: injecting %.3g Hz at %s: %w", hz, name, err)
+			return swing{}, fmt.Errorf("wobble: injecting %.3g Hz: %w", hz, err)
 		}
 	}
 	s := swing{rec: rec, timeCol: timeCol, amp: amp, w: w}
@@ -516,51 +553,59 @@ func (s swing) coef(c int, less float64) complex128 {
 	return sum
 }
 
-// loop is the linear part at one frequency per unit of the gaps (each
-// joint's output less its screw): the force that holds the gaps there, and
-// the tilt, commands, screws and outputs that go with them.
-type loop struct{ force, tilt, command, screw, out cmat }
+// loop is the linear part at one frequency per unit of what the
+// nonlinear parts put into it: the gaps of some screws' plays (each
+// joint's output less its screw), then the offsets their motors'
+// deadbands make (the command reaching the motor less the controller's).
+// Its rows are those screws' loads, screws, outputs and commands, and the
+// torso tilt.
+type loop struct{ force, screw, out, command, tilt cmat }
 
-// together is the loop through every measured screw at once.
-func (r *Response) together(k int) (loop, bool) {
-	n := r.Y[k].rows
-	gaps := newCmat(n, n)
-	for i := range gaps.v {
-		gaps.v[i] = r.Y[k].v[i] - r.X[k].v[i]
+// sub is the loop through the listed screws' plays and their motors'
+// deadbands, at frequency k, with the other screws tied without play; dz
+// lists, per deadband in it, its screw's place in screws.
+func (r *Response) sub(k int, screws []int) (l loop, dz []int, ok bool) {
+	n := len(r.Actuators)
+	cols := slices.Clone(screws)
+	var offs []int // rows of Offset
+	for q, i := range r.Driven {
+		if at := slices.Index(screws, i); at >= 0 {
+			cols, offs, dz = append(cols, n+q), append(offs, q), append(dz, at)
+		}
 	}
-	per, ok := gaps.inverse()
+	pick := func(m cmat, rows []int) cmat {
+		out := newCmat(len(rows), len(cols))
+		for a, i := range rows {
+			for b, j := range cols {
+				out.set(a, b, m.at(i, j))
+			}
+		}
+		return out
+	}
+	z := newCmat(len(cols), len(cols))
+	for a, i := range screws {
+		for b, j := range cols {
+			z.set(a, b, r.Y[k].at(i, j)-r.X[k].at(i, j))
+		}
+	}
+	for a, q := range offs {
+		for b, j := range cols {
+			z.set(len(screws)+a, b, r.Offset[k].at(q, j))
+		}
+	}
+	per, ok := z.inverse()
 	if !ok {
-		return loop{}, false
+		return loop{}, nil, false
 	}
-	return loop{force: r.Load[k].mul(per), tilt: r.Tilt[k].mul(per), command: r.Command[k].mul(per),
-		screw: r.X[k].mul(per), out: r.Y[k].mul(per)}, true
-}
-
-// alone is the loop through screw j, the others without play: its own
-// injection's responses.
-func (r *Response) alone(k, j int) loop {
-	gap := r.Y[k].at(j, j) - r.X[k].at(j, j)
-	one := func(v complex128) cmat { m := newCmat(1, 1); m.set(0, 0, v/gap); return m }
-	return loop{force: one(r.Load[k].at(j, j)), tilt: one(r.Tilt[k].at(0, j)), command: one(r.Command[k].at(j, j)),
-		screw: one(r.X[k].at(j, j)), out: one(r.Y[k].at(j, j))}
-}
-
-// screwsOf picks screw j's entries of a per-screw list, or all of them.
-func screwsOf(xs []float64, j int) []float64 {
-	if j < 0 {
-		return xs
-	}
-	return xs[j : j+1]
+	return loop{force: pick(r.Load[k], screws).mul(per), screw: pick(r.X[k], screws).mul(per),
+		out: pick(r.Y[k], screws).mul(per), command: pick(r.Command[k], screws).mul(per),
+		tilt: pick(r.Tilt[k], []int{0}).mul(per)}, dz, true
 }
 
 // Alone predicts the cycle of screw j's loop with the given play, the other
 // screws without play.
 func (r *Response) Alone(j int, width float64) Prediction {
-	loops := make([]loop, len(r.Hz))
-	for k := range r.Hz {
-		loops[k] = r.alone(k, j)
-	}
-	pr := r.predict(loops, width, j)
+	pr := r.predict([]int{j}, width)
 	pr.Actuator, pr.Rotary = r.Actuators[j], r.Rotary[j]
 	return pr
 }
@@ -569,108 +614,172 @@ func (r *Response) Alone(j int, width float64) Prediction {
 // each with its own amplitude and phase; the amplitudes given are the
 // largest screw's.
 func (r *Response) Together(width float64) Prediction {
-	loops := make([]loop, len(r.Hz))
-	for k := range r.Hz {
-		l, ok := r.together(k)
-		if !ok {
-			return Prediction{Actuator: "all", Why: NoBalance}
-		}
-		loops[k] = l
+	all := make([]int, len(r.Actuators))
+	for i := range all {
+		all[i] = i
 	}
-	pr := r.predict(loops, width, -1)
+	pr := r.predict(all, width)
 	pr.Actuator, pr.Rotary = "all", slices.Contains(r.Rotary, true) && !slices.Contains(r.Rotary, false)
 	return pr
 }
 
-// predict solves the harmonic balance of the plays (see play) on the
-// loops interpolated between the measured frequencies: first with every
-// play's input swinging by the same multiple of its threshold, which
-// finds the cycle and its stability (Balance; exact for one screw), then
-// each play with its own amplitude and phase (vectorBalance). screw is
-// the one screw with play, or -1 for all of them.
-func (r *Response) predict(loops []loop, width float64, screw int) Prediction {
-	static, friction, deadband := screwsOf(r.StaticLoad, screw), screwsOf(r.Friction, screw), screwsOf(r.Deadband, screw)
-	n := len(static)
-	pr := Prediction{StaticLoad: maxAbs(static)}
-	plays := make([]play, n)
-	for i := range plays {
-		plays[i] = newPlay(width, friction[i], static[i])
-		if n > 1 && !plays[i].thrown {
+// predict solves the harmonic balance of the listed screws' plays (see
+// play) and their motors' deadbands on the loops interpolated between the
+// measured frequencies. The plays alone, every input swinging by the same
+// multiple of its threshold, find the cycle and its stability (Balance;
+// exact for one screw without a deadband); from there each play and
+// deadband takes its own amplitude and phase (vectorBalance).
+func (r *Response) predict(screws []int, width float64) Prediction {
+	n := len(screws)
+	var pr Prediction
+	var els []element
+	for _, i := range screws {
+		pr.StaticLoad = math.Max(pr.StaticLoad, math.Abs(r.StaticLoad[i]))
+		pl := newPlay(width, r.Friction[i], r.StaticLoad[i])
+		if n > 1 && !pl.thrown {
 			unit := "N"
 			if r.Rotary[i] {
 				unit = "N*m"
 			}
-			pr.Why = fmt.Sprintf(Loose, r.Actuators[i], math.Abs(static[i]), unit, friction[i])
+			pr.Why = fmt.Sprintf(Loose, r.Actuators[i], math.Abs(r.StaticLoad[i]), unit, r.Friction[i])
 			return pr
 		}
+		els = append(els, pl)
 	}
-	at := func(w float64, pick func(loop) cmat) cmat { return r.interpolate(loops, w, pick) }
-	// inputs maps the gaps to each play's input: its load or its screw.
-	inputs := func(w float64) cmat {
-		force, screws := at(w, func(l loop) cmat { return l.force }), at(w, func(l loop) cmat { return l.screw })
-		out := newCmat(n, n)
-		for i := range n {
-			from := screws
-			if plays[i].thrown {
-				from = force
-			}
-			copy(out.v[i*n:(i+1)*n], from.v[i*n:(i+1)*n])
-		}
-		return out
-	}
-	d := func(ratio float64) cmat {
-		m := newCmat(n, n)
-		for i, pl := range plays {
-			m.set(i, i, pl.gapPer(ratio*pl.threshold()))
-		}
-		return m
-	}
-	f := func(ratio, w float64) complex128 { return d(ratio).mul(inputs(w)).plusIdentity().det() }
-	wlo, whi := 2*math.Pi*r.Hz[0], 2*math.Pi*r.Hz[len(r.Hz)-1]
-	ratio, w, resid, ok := Balance(f, 1+1e-9, wlo, whi)
-	pr.Residual = resid
-	if !ok {
-		pr.Why = NoBalance
-		return pr
-	}
-	gaps, ok := d(ratio).mul(inputs(w)).plusIdentity().nullVector()
-	if !ok {
-		pr.Why = NoBalance
-		return pr
-	}
-	// Scaled so that the play furthest past its threshold is ratio past.
-	u := inputs(w).mul(gaps)
-	most := 0.0
-	for i, pl := range plays {
-		most = math.Max(most, cmplx.Abs(u.v[i])/pl.threshold())
-	}
-	gaps = gaps.scale(complex(ratio/most, 0))
-	if n > 1 {
-		gaps, w, pr.Residual, ok = vectorBalance(plays, inputs, gaps, w)
-		if !ok {
+	loops := make([]loop, len(r.Hz))
+	var dz []int
+	for k := range r.Hz {
+		var ok bool
+		if loops[k], dz, ok = r.sub(k, screws); !ok {
 			pr.Why = NoBalance
 			return pr
 		}
 	}
-	pr.Found = true
-	pr.FrequencyHz = w / (2 * math.Pi)
-	pr.LoadAmp = maxAbsC(at(w, func(l loop) cmat { return l.force }).mul(gaps).v)
-	pr.TiltAmp = cmplx.Abs(at(w, func(l loop) cmat { return l.tilt }).mul(gaps).at(0, 0)) * 180 / math.Pi
-	pr.ScrewAmp = maxAbsC(at(w, func(l loop) cmat { return l.screw }).mul(gaps).v)
-	pr.OutputAmp = maxAbsC(at(w, func(l loop) cmat { return l.out }).mul(gaps).v)
-	commands := at(w, func(l loop) cmat { return l.command }).mul(gaps)
-	worst := deadbandReach // the gain the deadband leaves the worst screw
-	for i, db := range deadband {
-		c := cmplx.Abs(commands.at(i, 0))
-		pr.CommandAmp = math.Max(pr.CommandAmp, c)
-		if g := DeadbandDF(c, db); db > 0 && g < worst {
-			worst, pr.NotValid = g, fmt.Sprintf(NearDeadband, 100*c, 100*db)
+	for _, at := range dz {
+		els = append(els, deadband(r.Deadband[screws[at]]))
+	}
+	at := func(w float64, pick func(loop) cmat) cmat { return r.interpolate(loops, w, pick) }
+	// inputs maps what goes in (gaps, offsets) to each part's input: a
+	// play's load or screw, a deadband's command.
+	inputs := func(w float64) cmat {
+		force, screw, command := at(w, func(l loop) cmat { return l.force }), at(w, func(l loop) cmat { return l.screw }), at(w, func(l loop) cmat { return l.command })
+		m := len(els)
+		out := newCmat(m, m)
+		for i := range m {
+			from, row := command, 0
+			switch {
+			case i >= n:
+				row = dz[i-n]
+			case els[i].(play).thrown:
+				from, row = force, i
+			default:
+				from, row = screw, i
+			}
+			copy(out.v[i*m:(i+1)*m], from.v[row*m:(row+1)*m])
+		}
+		return out
+	}
+	wlo, whi := 2*math.Pi*r.Hz[0], 2*math.Pi*r.Hz[len(r.Hz)-1]
+	// start balances the first m parts (the plays, or all), every input
+	// swinging by the same multiple of its threshold, the rest passing
+	// what they are given, and returns what goes in, over all the parts.
+	start := func(m int) (cmat, float64, float64, bool) {
+		block := func(w float64) cmat {
+			all := inputs(w)
+			out := newCmat(m, m)
+			for i := range m {
+				copy(out.v[i*m:(i+1)*m], all.v[i*all.cols:i*all.cols+m])
+			}
+			return out
+		}
+		d := func(ratio float64) cmat {
+			out := newCmat(m, m)
+			for i := range m {
+				out.set(i, i, els[i].gapPer(ratio*els[i].threshold()))
+			}
+			return out
+		}
+		f := func(ratio, w float64) complex128 { return d(ratio).mul(block(w)).plusIdentity().det() }
+		ratio, w, resid, ok := Balance(f, 1+1e-9, wlo, whi)
+		if !ok {
+			return cmat{}, w, resid, false
+		}
+		in, ok := d(ratio).mul(block(w)).plusIdentity().nullVector()
+		if !ok {
+			return cmat{}, w, resid, false
+		}
+		// Scaled so that the part furthest past its threshold is ratio past.
+		u := block(w).mul(in)
+		most := 0.0
+		for i := range m {
+			most = math.Max(most, cmplx.Abs(u.v[i])/els[i].threshold())
+		}
+		z := newCmat(len(els), 1)
+		copy(z.v, in.scale(complex(ratio/most, 0)).v)
+		// Each part left out takes what the cycle gives it.
+		u = inputs(w).mul(z)
+		for i := m; i < len(els); i++ {
+			z.v[i] = -els[i].gapPer(cmplx.Abs(u.v[i])) * u.v[i]
+		}
+		return z, w, resid, true
+	}
+	var z cmat
+	var w float64
+	found := false
+	unstable := "" // a balance found that is an unstable cycle
+	pr.Residual = math.Inf(1)
+	for _, m := range []int{n, len(els)} {
+		z0, w0, resid, ok := start(m)
+		if ok && len(els) > 1 {
+			z0, w0, resid, ok = vectorBalance(els, inputs, z0, w0)
+			if ok && !stableAlong(els, inputs, z0, w0) {
+				tilt := cmplx.Abs(at(w0, func(l loop) cmat { return l.tilt }).mul(z0).at(0, 0)) * 180 / math.Pi
+				unstable, ok = fmt.Sprintf(Unstable, tilt, w0/(2*math.Pi)), false
+			}
+		}
+		if !found {
+			pr.Residual = math.Min(pr.Residual, resid)
+		}
+		if ok && (!found || maxAbsC(z0.v[:n]) > maxAbsC(z.v[:n])) {
+			z, w, pr.Residual, found = z0, w0, resid, true
+		}
+		if m == len(els) {
+			break
 		}
 	}
+	if !found {
+		pr.Why = NoBalance
+		if unstable != "" {
+			pr.Why = unstable
+		}
+		return pr
+	}
+	pr.Found = true
+	pr.FrequencyHz = w / (2 * math.Pi)
+	pr.LoadAmp = maxAbsC(at(w, func(l loop) cmat { return l.force }).mul(z).v)
+	pr.TiltAmp = cmplx.Abs(at(w, func(l loop) cmat { return l.tilt }).mul(z).at(0, 0)) * 180 / math.Pi
+	pr.ScrewAmp = maxAbsC(at(w, func(l loop) cmat { return l.screw }).mul(z).v)
+	pr.OutputAmp = maxAbsC(at(w, func(l loop) cmat { return l.out }).mul(z).v)
+	pr.CommandAmp = maxAbsC(at(w, func(l loop) cmat { return l.command }).mul(z).v)
 	if pr.CommandAmp > 1 {
 		pr.NotValid = fmt.Sprintf(Saturates, 100*pr.CommandAmp)
 	}
 	return pr
+}
+
+// stableAlong applies Loeb's criterion (see stable) to a solution of the
+// vector balance along the ray through it: every part's input amplitude
+// scaled by one factor, the balance det(I + D R(w)).
+func stableAlong(els []element, inputs func(w float64) cmat, z cmat, w float64) bool {
+	amps := inputs(w).mul(z)
+	f := func(s, w float64) complex128 {
+		d := newCmat(len(els), len(els))
+		for i, el := range els {
+			d.set(i, i, el.gapPer(s*cmplx.Abs(amps.v[i])))
+		}
+		return d.mul(inputs(w)).plusIdentity().det()
+	}
+	return stable(f, 1, w)
 }
 
 // interpolate is a loop's matrix at w (rad/s), each entry's magnitude and
