@@ -210,6 +210,11 @@ const Loose = "not valid here: %s stands with %.2f %s of load, under its joint's
 // not find.
 const Unstable = "not valid here: the balance has only an unstable cycle (%.3f deg at %.2f Hz); a shove past it may start a wobble the model does not follow; read the simulation"
 
+// Stalls is why a prediction is not valid: the cycle would swing a
+// screw's load past its motor's stall force, where the motor stops, while
+// the linear part has it follow its command whatever the load.
+const Stalls = "not valid here: the cycle's load on %s swings %.0f %s, past its motor's stall force of %.0f %[3]s, where it stops; read the simulation"
+
 // Saturates is why a prediction is not valid: the cycle would need a
 // motor command beyond full PWM.
 const Saturates = "not valid here: the cycle's command swings %.0f %% of full PWM, past what the motor can take; read the simulation"
@@ -320,8 +325,9 @@ type Response struct {
 	StaticLoad          []float64
 	// Friction is each screw's joint friction as a force (or torque) at
 	// the screw, and Deadband its motor's, a fraction of full PWM: the
-	// linear part is measured without either (see modes.Ideal).
-	Friction, Deadband []float64
+	// linear part is measured without either (see modes.Ideal). Stall is
+	// each motor's stall force (or torque).
+	Friction, Deadband, Stall []float64
 }
 
 // responseHz are the frequencies measured, a log scale over the range a
@@ -347,6 +353,7 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 		}
 		res.Rotary = append(res.Rotary, modes.Rotary(ideal.Robot, &ideal.Robot.Actuators[i]))
 		res.Deadband = append(res.Deadband, r.Robot.Actuators[i].Deadband)
+		res.Stall = append(res.Stall, r.Robot.Actuators[i].StallForce)
 	}
 	p, _, err := ideal.Build(sim.Options{Seed: seed})
 	if err != nil {
@@ -637,11 +644,7 @@ func (r *Response) predict(screws []int, width float64) Prediction {
 		pr.StaticLoad = math.Max(pr.StaticLoad, math.Abs(r.StaticLoad[i]))
 		pl := newPlay(width, r.Friction[i], r.StaticLoad[i])
 		if n > 1 && !pl.thrown {
-			unit := "N"
-			if r.Rotary[i] {
-				unit = "N*m"
-			}
-			pr.Why = fmt.Sprintf(Loose, r.Actuators[i], math.Abs(r.StaticLoad[i]), unit, r.Friction[i])
+			pr.Why = fmt.Sprintf(Loose, r.Actuators[i], math.Abs(r.StaticLoad[i]), loadUnit(r.Rotary[i]), r.Friction[i])
 			return pr
 		}
 		els = append(els, pl)
@@ -756,11 +759,17 @@ func (r *Response) predict(screws []int, width float64) Prediction {
 	}
 	pr.Found = true
 	pr.FrequencyHz = w / (2 * math.Pi)
-	pr.LoadAmp = maxAbsC(at(w, func(l loop) cmat { return l.force }).mul(z).v)
+	loads := at(w, func(l loop) cmat { return l.force }).mul(z)
+	pr.LoadAmp = maxAbsC(loads.v)
 	pr.TiltAmp = cmplx.Abs(at(w, func(l loop) cmat { return l.tilt }).mul(z).at(0, 0)) * 180 / math.Pi
 	pr.ScrewAmp = maxAbsC(at(w, func(l loop) cmat { return l.screw }).mul(z).v)
 	pr.OutputAmp = maxAbsC(at(w, func(l loop) cmat { return l.out }).mul(z).v)
 	pr.CommandAmp = maxAbsC(at(w, func(l loop) cmat { return l.command }).mul(z).v)
+	for a, i := range screws {
+		if f := cmplx.Abs(loads.v[a]); f > r.Stall[i] {
+			pr.NotValid = fmt.Sprintf(Stalls, r.Actuators[i], f, loadUnit(r.Rotary[i]), r.Stall[i])
+		}
+	}
 	if pr.CommandAmp > 1 {
 		pr.NotValid = fmt.Sprintf(Saturates, 100*pr.CommandAmp)
 	}
@@ -806,12 +815,12 @@ func (r *Response) interpolate(loops []loop, w float64, pick func(loop) cmat) cm
 	return out
 }
 
-func maxAbs(xs []float64) float64 {
-	m := 0.0
-	for _, x := range xs {
-		m = math.Max(m, math.Abs(x))
+// loadUnit is the unit of a screw's load.
+func loadUnit(rotary bool) string {
+	if rotary {
+		return "N*m"
 	}
-	return m
+	return "N"
 }
 
 func maxAbsC(xs []complex128) float64 {

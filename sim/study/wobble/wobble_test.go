@@ -147,7 +147,7 @@ func logLoop(t *testing.T, name string, l Loop) {
 // aim (withinAim); no cycle from the balance, a calm robot after every
 // shove (a tilt swing under 0.05 deg, common practice for "does not
 // wobble"); otherwise the answer must say why it is not given (Loose,
-// Unstable) or not valid (Saturates). At least one case must be
+// Unstable) or not valid (Stalls, Saturates). At least one case must be
 // predicted, valid and checked: the sagittal ankle with 1 mm is.
 func TestPredictionsHoldOnTheBuiltinRobots(t *testing.T) {
 	if testing.Short() {
@@ -285,5 +285,36 @@ func TestWobblesIsTheLargestOfTheRunsUp(t *testing.T) {
 	}
 	if (&Loop{Sims: l.Sims[1:2]}).Wobbles() != nil {
 		t.Error("a run under calm reported as a wobble")
+	}
+}
+
+// A cycle whose load would pass the motor's stall force is not one the
+// measured loop can follow: with the sagittal ankle's motor cut to 200 N
+// of stall force, the 1 mm cycle (its load swinging about 280 N) must be
+// marked, and with the built-in 400 N it must not.
+func TestACycleThatStallsTheMotorIsMarked(t *testing.T) {
+	if testing.Short() {
+		t.Skip("seconds of simulation")
+	}
+	for _, stall := range []float64{400, 200} {
+		r, err := rig.Load("builtin:sagittal", "", "")
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range r.Robot.Actuators {
+			if r.Robot.Actuators[i].Name == "ankle" {
+				r.Robot.Actuators[i].StallForce = stall
+			}
+		}
+		resp, err := Measure(r, []string{"ankle"}, 1)
+		if err != nil {
+			t.Fatal(err)
+		}
+		p := resp.Alone(0, 1e-3)
+		t.Logf("stall %g N: found %v, load swing %.0f N, %s", stall, p.Found, p.LoadAmp, p.NotValid)
+		marked := strings.HasPrefix(p.NotValid, "not valid here: the cycle's load on ankle")
+		if !p.Found || marked != (p.LoadAmp > stall) || marked != (stall == 200) {
+			t.Errorf("stall %g N: found %v, load swing %.0f N, marked %v (%s)", stall, p.Found, p.LoadAmp, marked, p.NotValid)
+		}
 	}
 }
