@@ -221,10 +221,10 @@ const Saturates = "not valid here: the cycle's command swings %.0f %% of full PW
 
 // Prediction is the describing function's answer for one screw's loop,
 // the other screws without play, or for all the screws' plays together.
-// It is found (Found) or why not is said (Why, NoBalance or Loose), and a
-// cycle found is marked (NotValid) where the loop it was balanced on
-// leaves out what the cycle would meet: a deadband near the command's
-// swing, a command past full PWM.
+// It is found (Found) or why not is said (Why: NoBalance, Unstable or
+// Loose), and a cycle found is marked (NotValid) where the loop it was
+// balanced on leaves out what the cycle would meet: a load past the
+// motor's stall force (Stalls), a command past full PWM (Saturates).
 type Prediction struct {
 	Actuator    string  `json:"actuator"`
 	Found       bool    `json:"found"`
@@ -392,14 +392,8 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 			var err error
 			slipped, driven := j, -1
 			if j < n {
-				// Well above the solver's 20 um of slop at a rigid screw,
-				// well below what upsets a standing robot.
-				amp := 1e-4
-				if res.Rotary[j] {
-					amp = 0.2 * math.Pi / 180
-				}
 				name := actuators[j]
-				s, err = inject(p, amp, hz, cols.time, func(d, was float64) error { return p.NudgeScrew(name, d-was) })
+				s, err = inject(p, slip(res.Rotary[j]), hz, cols.time, func(d, was float64) error { return p.NudgeScrew(name, d-was) })
 			} else {
 				slipped, driven = -1, res.Driven[j-n]
 				name := actuators[driven]
@@ -434,6 +428,16 @@ func Measure(r *rig.Rig, actuators []string, seed uint64) (*Response, error) {
 		res.Offset, res.Tilt = append(res.Offset, offset), append(res.Tilt, tilt)
 	}
 	return res, nil
+}
+
+// slip is the amplitude a screw is slipped by against its joint, m or rad:
+// well above the solver's 20 um of slop at a rigid screw, well below what
+// upsets a standing robot.
+func slip(rotary bool) float64 {
+	if rotary {
+		return 0.2 * math.Pi / 180
+	}
+	return 1e-4
 }
 
 func indicator(b bool) float64 {
@@ -478,10 +482,7 @@ func findColumns(rec *sim.Recorder, robot *models.Robot, actuators []string) (re
 		cols.screw[i], cols.out[i], cols.load[i], cols.command[i] = col(name+".screw"), col(name+".output"), col(name+".force"), col(name+".command")
 		cols.joint[i] = -1
 		a := &robot.Actuators[slices.IndexFunc(robot.Actuators, func(a models.Actuator) bool { return a.Name == name })]
-		travel := 1e-4
-		if modes.Rotary(robot, a) {
-			travel = 0.2 * math.Pi / 180
-		}
+		travel := slip(modes.Rotary(robot, a))
 		cols.commandAmp[i] = func(hz float64) float64 {
 			return math.Min(math.Max(travel*2*math.Pi*hz/a.NoLoadSpeed, 0.01), 0.3)
 		}
