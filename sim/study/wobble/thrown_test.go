@@ -3,6 +3,7 @@ package wobble
 import (
 	"math"
 	"math/cmplx"
+	"strings"
 	"testing"
 )
 
@@ -125,5 +126,42 @@ func TestVectorBalanceOnTwoLoopsInOne(t *testing.T) {
 		if a := cmplx.Abs(u.v[i]); math.Abs(a-wantA)/wantA > 0.03 || math.Abs(w-wantW)/wantW > 0.03 {
 			t.Errorf("screw %d swings %.4g at %.4g rad/s; by hand %.4g at %.4g", i, a, w, wantA, wantW)
 		}
+	}
+}
+
+// loopResponse is the Response of one screw whose joint friction holds it
+// (classic play) in the loop g: the screw x = -g y from the output y, so
+// per unit of gap y - x the screw moves -g/(1+g). The tilt reads the
+// screw.
+func loopResponse(g func(w float64) complex128) *Response {
+	r := &Response{Actuators: []string{"screw"}, Rotary: []bool{false},
+		StaticLoad: []float64{0}, Friction: []float64{1}, Deadband: []float64{0}, Stall: []float64{math.Inf(1)}}
+	one := func(v complex128) cmat { m := newCmat(1, 1); m.v[0] = v; return m }
+	for i := range 120 {
+		hz := 0.02 * math.Pow(250, float64(i)/119)
+		x := -g(2*math.Pi*hz) / (1 + g(2*math.Pi*hz))
+		r.Hz = append(r.Hz, hz)
+		r.X, r.Y, r.Tilt = append(r.X, one(x)), append(r.Y, one(1+x)), append(r.Tilt, one(x))
+		r.Load, r.Command, r.Offset = append(r.Load, one(0)), append(r.Command, one(0)), append(r.Offset, newCmat(0, 1))
+	}
+	return r
+}
+
+func TestPredictionOnKnownLoops(t *testing.T) {
+	// The hand-worked servo (TestBacklashCycleOnKnownLoop; Slotine and
+	// Li, 1991, sec. 5.4) through the whole prediction: the screw swings
+	// 0.1010 at 1.591 rad/s.
+	p := loopResponse(servo).Alone(0, 0.1)
+	if w := 2 * math.Pi * p.FrequencyHz; !p.Found || math.Abs(p.ScrewAmp-servoA)/servoA > 0.03 || math.Abs(w-servoW)/servoW > 0.03 {
+		t.Errorf("servo: found %v (%s), screw %.4g at %.4g rad/s; by hand %.4g at %.4g", p.Found, p.Why, p.ScrewAmp, w, servoA, servoW)
+	}
+	// 10/(s+1)^3 closes unstable (Routh: above a gain of 8) and is stable
+	// open: small swings, the play open, die out, large ones, the play
+	// closed, grow. The one balance between is an unstable cycle (Gelb
+	// and Vander Velde, 1968, ch. 2), which must be named, not predicted.
+	cubic := func(w float64) complex128 { s := complex(1, w); return 10 / (s * s * s) }
+	p = loopResponse(cubic).Alone(0, 0.1)
+	if p.Found || !strings.HasPrefix(p.Why, "not valid here: the balance has only an unstable cycle") {
+		t.Errorf("10/(s+1)^3: found %v, %.3g at %.3g Hz (%s): want the unstable cycle named", p.Found, p.ScrewAmp, p.FrequencyHz, p.Why)
 	}
 }

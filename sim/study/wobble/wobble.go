@@ -686,8 +686,10 @@ func (r *Response) predict(screws []int, width float64) Prediction {
 	wlo, whi := 2*math.Pi*r.Hz[0], 2*math.Pi*r.Hz[len(r.Hz)-1]
 	// start balances the first m parts (the plays, or all), every input
 	// swinging by the same multiple of its threshold, the rest passing
-	// what they are given, and returns what goes in, over all the parts.
-	start := func(m int) (cmat, float64, float64, bool) {
+	// what they are given, and returns what goes in, over all the parts;
+	// ok is false when there is no stable balance, unstableOnly when there
+	// is an unstable one (then returned).
+	start := func(m int) (z cmat, w, resid float64, ok, unstableOnly bool) {
 		block := func(w float64) cmat {
 			all := inputs(w)
 			out := newCmat(m, m)
@@ -704,13 +706,17 @@ func (r *Response) predict(screws []int, width float64) Prediction {
 			return out
 		}
 		f := func(ratio, w float64) complex128 { return d(ratio).mul(block(w)).plusIdentity().det() }
-		ratio, w, resid, ok := Balance(f, 1+1e-9, wlo, whi)
-		if !ok {
-			return cmat{}, w, resid, false
+		var ratio float64
+		ratio, w, resid, ok = Balance(f, 1+1e-9, wlo, whi)
+		// Balance returns its best pair when none is a stable cycle: a
+		// root all the same is an unstable one.
+		unstableOnly = !ok && resid < 1e-3
+		if !ok && !unstableOnly {
+			return cmat{}, w, resid, false, false
 		}
-		in, ok := d(ratio).mul(block(w)).plusIdentity().nullVector()
-		if !ok {
-			return cmat{}, w, resid, false
+		in, found := d(ratio).mul(block(w)).plusIdentity().nullVector()
+		if !found {
+			return cmat{}, w, resid, false, false
 		}
 		// Scaled so that the part furthest past its threshold is ratio past.
 		u := block(w).mul(in)
@@ -718,14 +724,17 @@ func (r *Response) predict(screws []int, width float64) Prediction {
 		for i := range m {
 			most = math.Max(most, cmplx.Abs(u.v[i])/els[i].threshold())
 		}
-		z := newCmat(len(els), 1)
+		z = newCmat(len(els), 1)
 		copy(z.v, in.scale(complex(ratio/most, 0)).v)
 		// Each part left out takes what the cycle gives it.
 		u = inputs(w).mul(z)
 		for i := m; i < len(els); i++ {
 			z.v[i] = -els[i].gapPer(cmplx.Abs(u.v[i])) * u.v[i]
 		}
-		return z, w, resid, true
+		return z, w, resid, ok, unstableOnly
+	}
+	tiltOf := func(z cmat, w float64) float64 {
+		return cmplx.Abs(at(w, func(l loop) cmat { return l.tilt }).mul(z).at(0, 0)) * 180 / math.Pi
 	}
 	var z cmat
 	var w float64
@@ -733,12 +742,14 @@ func (r *Response) predict(screws []int, width float64) Prediction {
 	unstable := "" // a balance found that is an unstable cycle
 	pr.Residual = math.Inf(1)
 	for _, m := range []int{n, len(els)} {
-		z0, w0, resid, ok := start(m)
-		if ok && len(els) > 1 {
+		z0, w0, resid, ok, unstableOnly := start(m)
+		switch {
+		case unstableOnly && len(els) == 1:
+			unstable = fmt.Sprintf(Unstable, tiltOf(z0, w0), w0/(2*math.Pi))
+		case ok && len(els) > 1:
 			z0, w0, resid, ok = vectorBalance(els, inputs, z0, w0)
 			if ok && !stableAlong(els, inputs, z0, w0) {
-				tilt := cmplx.Abs(at(w0, func(l loop) cmat { return l.tilt }).mul(z0).at(0, 0)) * 180 / math.Pi
-				unstable, ok = fmt.Sprintf(Unstable, tilt, w0/(2*math.Pi)), false
+				unstable, ok = fmt.Sprintf(Unstable, tiltOf(z0, w0), w0/(2*math.Pi)), false
 			}
 		}
 		if !found {
@@ -762,7 +773,7 @@ func (r *Response) predict(screws []int, width float64) Prediction {
 	pr.FrequencyHz = w / (2 * math.Pi)
 	loads := at(w, func(l loop) cmat { return l.force }).mul(z)
 	pr.LoadAmp = maxAbsC(loads.v)
-	pr.TiltAmp = cmplx.Abs(at(w, func(l loop) cmat { return l.tilt }).mul(z).at(0, 0)) * 180 / math.Pi
+	pr.TiltAmp = tiltOf(z, w)
 	pr.ScrewAmp = maxAbsC(at(w, func(l loop) cmat { return l.screw }).mul(z).v)
 	pr.OutputAmp = maxAbsC(at(w, func(l loop) cmat { return l.out }).mul(z).v)
 	pr.CommandAmp = maxAbsC(at(w, func(l loop) cmat { return l.command }).mul(z).v)
