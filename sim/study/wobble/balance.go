@@ -65,13 +65,13 @@ func (p play) gapPer(a float64) complex128 {
 // Velde, 1968, ch. 2, one sinusoid through every nonlinearity):
 // e + D(|u|) u = 0 with u = R(w) e, where e is what the parts put in (a
 // play's gap, a deadband's offset), u each part's input (row i of R maps e
-// to it) and D each part's gapPer. It is
-// Newton's method on the real and imaginary parts from the gaps e0 at w0,
-// the largest gap's phase held at zero and w free; ok is false when it
+// to it) and D each part's gapPer. It is Newton's method on the real and
+// imaginary parts from e0 at w0, the largest entry's phase held at zero
+// and w free; ok is false when it
 // does not converge or converges to a state where no part passes
 // anything on.
-func vectorBalance(plays []element, r func(w float64) cmat, e0 cmat, w0 float64) (e cmat, w, residual float64, ok bool) {
-	n := len(plays)
+func vectorBalance(els []element, r func(w float64) cmat, e0 cmat, w0 float64) (e cmat, w, residual float64, ok bool) {
+	n := len(els)
 	p := 0
 	for i, v := range e0.v {
 		if cmplx.Abs(v) > cmplx.Abs(e0.v[p]) {
@@ -118,7 +118,7 @@ func vectorBalance(plays []element, r func(w float64) cmat, e0 cmat, w0 float64)
 		}
 		u := r(w).mul(e)
 		for i := range n {
-			v := (e.v[i] + plays[i].gapPer(cmplx.Abs(u.v[i]))*u.v[i]) / complex(scale, 0)
+			v := (e.v[i] + els[i].gapPer(cmplx.Abs(u.v[i]))*u.v[i]) / complex(scale, 0)
 			out = append(out, real(v), imag(v))
 		}
 		return out
@@ -160,7 +160,7 @@ func vectorBalance(plays []element, r func(w float64) cmat, e0 cmat, w0 float64)
 	}
 	u := r(w).mul(e)
 	for i := range n {
-		if _, isPlay := plays[i].(play); isPlay && cmplx.Abs(u.v[i]) > plays[i].threshold() {
+		if _, isPlay := els[i].(play); isPlay && cmplx.Abs(u.v[i]) > els[i].threshold() {
 			return e, w, residual, true
 		}
 	}
